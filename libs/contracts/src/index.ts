@@ -1,1 +1,2 @@
-export {};
+export * from './queue.js';
+export * from './events.js';
