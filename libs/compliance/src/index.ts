@@ -1,1 +1,1 @@
-export {};
+export * from './deviations/deviation-state.js';

@@ -1,2 +1,3 @@
 export * from './queue.js';
 export * from './events.js';
+export * from './spec.js';

@@ -1,0 +1,170 @@
+import { z } from 'zod';
+import { CHEMISTRY_ELEMENTS, HardnessScale } from './ingest.js';
+
+/**
+ * Product spec payloads: what a part family must meet. A product spec is versioned; each version carries
+ * its chemistry limits, its process window and its acceptance criteria. The API validates spec payloads
+ * with these schemas and the worker re-validates what it reads back from Postgres before evaluating rules.
+ *
+ * Units are part of every field name (tempC, minutes, seconds). Objects are strict: an unknown or
+ * misspelt field is rejected with its path rather than silently ignored, because a typo in a limit
+ * would otherwise switch a check off.
+ */
+
+const tempC = z.number().finite().min(-50).max(1300);
+const positiveSeconds = z.number().finite().positive();
+const nonNegativeSeconds = z.number().finite().min(0);
+const positiveMinutes = z.number().finite().positive();
+const fraction = z.number().finite().min(0).max(1);
+
+/** Adds an issue at `path` when `min > max`; used for every min/max pair. */
+function orderedPair(
+  ctx: z.core.$RefinementCtx,
+  min: number | undefined,
+  max: number | undefined,
+  path: (string | number)[],
+  what: string,
+): void {
+  if (min !== undefined && max !== undefined && min > max) {
+    ctx.addIssue({ code: 'custom', path, message: `${what}: minimum ${min} is above maximum ${max}` });
+  }
+}
+
+export const AustenitizeWindow = z
+  .strictObject({
+    minTempC: tempC,
+    maxTempC: tempC,
+    /** Minimum soak at temperature, counted from the first time every furnace zone is inside the band. */
+    minMinutes: positiveMinutes,
+    /** Optional upper limit on soak (grain growth, decarburization); absent means no limit. */
+    maxMinutes: positiveMinutes.optional(),
+  })
+  .superRefine((w, ctx) => {
+    orderedPair(ctx, w.minTempC, w.maxTempC, ['maxTempC'], 'austenitize temperature');
+    orderedPair(ctx, w.minMinutes, w.maxMinutes, ['maxMinutes'], 'austenitize time');
+  });
+export type AustenitizeWindow = z.infer<typeof AustenitizeWindow>;
+
+export const BathWindow = z
+  .strictObject({
+    minTempC: tempC,
+    maxTempC: tempC,
+    /** Allowed continuous time outside [minTempC, maxTempC] while the load is in the bath (e.g. the
+     *  temperature rise on immersion); a longer continuous excursion is a deviation. */
+    maxExcursionS: nonNegativeSeconds,
+    /** Time in the bath, from INTO_BATH to OUT_OF_BATH. */
+    minHoldMin: positiveMinutes,
+    maxHoldMin: positiveMinutes,
+  })
+  .superRefine((w, ctx) => {
+    orderedPair(ctx, w.minTempC, w.maxTempC, ['maxTempC'], 'bath temperature');
+    orderedPair(ctx, w.minHoldMin, w.maxHoldMin, ['maxHoldMin'], 'bath hold');
+  });
+export type BathWindow = z.infer<typeof BathWindow>;
+
+export const FlatlineCheck = z.strictObject({
+  /** A temperature channel whose readings stay within epsilonC of each other for this long is suspect
+   *  (a live thermocouple in a working bath or furnace always moves a little). */
+  minDurationS: positiveSeconds,
+  epsilonC: z.number().finite().min(0),
+});
+export type FlatlineCheck = z.infer<typeof FlatlineCheck>;
+
+export const PlausibleSignal = z
+  .strictObject({
+    /** Readings outside this range cannot be real for this equipment (open thermocouple, wiring). */
+    minTempC: z.number().finite(),
+    maxTempC: z.number().finite(),
+    /** Faster change between consecutive readings than this cannot be real. */
+    maxRateCPerS: z.number().finite().positive(),
+  })
+  .superRefine((w, ctx) => orderedPair(ctx, w.minTempC, w.maxTempC, ['maxTempC'], 'plausible temperature'));
+export type PlausibleSignal = z.infer<typeof PlausibleSignal>;
+
+export const TwinTolerance = z.strictObject({
+  /** Two thermocouples on one bath (or one furnace) may differ by at most this much ... */
+  maxDiffC: z.number().finite().positive(),
+  /** ... for at most this long continuously. */
+  minDurationS: nonNegativeSeconds,
+});
+export type TwinTolerance = z.infer<typeof TwinTolerance>;
+
+export const ProcessWindow = z.strictObject({
+  austenitize: AustenitizeWindow,
+  /** OUT_OF_FURNACE to INTO_BATH. */
+  maxTransferS: positiveSeconds,
+  bath: BathWindow,
+  /** Largest allowed gap between consecutive samples of one channel while the load is being treated. */
+  maxChannelGapS: positiveSeconds,
+  flatline: FlatlineCheck,
+  plausible: PlausibleSignal,
+  twinTolerance: TwinTolerance,
+});
+export type ProcessWindow = z.infer<typeof ProcessWindow>;
+
+export const HardnessBand = z
+  .strictObject({ scale: HardnessScale, min: z.number().finite().positive(), max: z.number().finite().positive() })
+  .superRefine((w, ctx) => orderedPair(ctx, w.min, w.max, ['max'], 'hardness'));
+export type HardnessBand = z.infer<typeof HardnessBand>;
+
+export const TensileBand = z
+  .strictObject({
+    minTensileMPa: z.number().finite().positive().optional(),
+    maxTensileMPa: z.number().finite().positive().optional(),
+    minYieldMPa: z.number().finite().positive().optional(),
+    minElongationPct: z.number().finite().min(0).max(100).optional(),
+  })
+  .superRefine((w, ctx) => orderedPair(ctx, w.minTensileMPa, w.maxTensileMPa, ['maxTensileMPa'], 'tensile strength'));
+export type TensileBand = z.infer<typeof TensileBand>;
+
+/**
+ * What the finished load must show. Every field is optional: a spec names only what its customer asks
+ * for. The metallurgical fields are checked against predictions and lab results in a later issue; they
+ * are accepted and stored now so specs do not need a new version when those checks arrive.
+ */
+export const AcceptanceCriteria = z
+  .strictObject({
+    hardness: HardnessBand.optional(),
+    tensile: TensileBand.optional(),
+    minImpactJ: z.number().finite().positive().optional(),
+    /** Bainitic ferrite (steel) or ausferritic ferrite (ADI), volume fraction 0..1. */
+    minBainiteFraction: fraction.optional(),
+    maxFreshMartensiteFraction: fraction.optional(),
+    maxBlockyAusteniteFraction: fraction.optional(),
+    /** Film to blocky retained austenite ratio (dimensionless, >= 0). */
+    minFilmToBlockRatio: z.number().finite().min(0).optional(),
+    maxRetainedAusteniteFraction: fraction.optional(),
+    /** Bath temperature must sit at least this far above the heat's Ms ... */
+    minMsMarginC: z.number().finite().min(0).optional(),
+    /** ... and at least this far below its Bs. */
+    minBsMarginC: z.number().finite().min(0).optional(),
+    /** Carbide-free bainite needs Si (+Al) to suppress cementite; minimum of their sum in wt%. */
+    minSiPlusAlWtPct: z.number().finite().min(0).max(10).optional(),
+  });
+export type AcceptanceCriteria = z.infer<typeof AcceptanceCriteria>;
+
+export const ElementLimit = z
+  .strictObject({
+    minWtPct: z.number().finite().min(0).max(100).optional(),
+    maxWtPct: z.number().finite().min(0).max(100).optional(),
+  })
+  .superRefine((w, ctx) => {
+    if (w.minWtPct === undefined && w.maxWtPct === undefined) {
+      ctx.addIssue({ code: 'custom', path: [], message: 'give minWtPct, maxWtPct or both' });
+    }
+    orderedPair(ctx, w.minWtPct, w.maxWtPct, ['maxWtPct'], 'element limit');
+  });
+export type ElementLimit = z.infer<typeof ElementLimit>;
+
+/** Per-element limits in wt%, keyed by symbol (`{ "C": { "minWtPct": 0.95, "maxWtPct": 1.10 } }`).
+ *  Elements not named are unrestricted; the symbols are
+ *  those a heat's chemistry may carry (CHEMISTRY_ELEMENTS). */
+export const ChemistryLimits = z.partialRecord(z.enum(CHEMISTRY_ELEMENTS), ElementLimit);
+export type ChemistryLimits = z.infer<typeof ChemistryLimits>;
+
+export const ProductSpecVersionInput = z.strictObject({
+  chemistryLimits: ChemistryLimits,
+  processWindow: ProcessWindow,
+  acceptanceCriteria: AcceptanceCriteria,
+});
+export type ProductSpecVersionInput = z.infer<typeof ProductSpecVersionInput>;
