@@ -1,3 +1,4 @@
 export * from './queue.js';
 export * from './events.js';
 export * from './spec.js';
+export * from './ingest.js';
