@@ -6,10 +6,14 @@ import { defineConfig } from 'vitest/config';
 export default defineConfig({
   plugins: [swc.vite()],
   resolve: { conditions: ['source', 'import', 'module', 'node', 'default'] },
-  ssr: { resolve: { conditions: ['source', 'import', 'node', 'default'], externalConditions: ['source'] } },
+  // No 'import' in the ssr conditions: forcing it makes CommonJS packages that require() a dual package
+  // (pg -> pg-pool) get the ESM build, and `pg` then fails to load. Vite adds import/require by itself.
+  ssr: { resolve: { conditions: ['source', 'node', 'default'], externalConditions: ['source'] } },
   test: {
     environment: 'node',
     include: ['libs/*/src/**/*.test.ts', 'apps/*/src/**/*.test.ts', 'apps/*/test/**/*.test.ts', 'tests/**/*.test.ts'],
+    // Checks Postgres/Redis (fails at once with the start commands), builds the migrated template DB.
+    globalSetup: ['tests/support/global-setup.ts'],
     testTimeout: 30_000,
     hookTimeout: 30_000,
   },
