@@ -7,7 +7,7 @@
  *    createTestDatabase() (tests/support/database.ts);
  * 4. at the end drops the template and anything this run left.
  *
- * Runs that only touch the pure libraries (`vitest run libs/metallurgy`, `libs/compliance`), or with
+ * Runs that only touch the pure libraries (`vitest run libs/metallurgy`, `libs/compliance`, `libs/contracts`), or with
  * AUSLINE_TEST_SERVICES=off, skip all of this.
  */
 import { randomBytes } from 'node:crypto';

@@ -2,3 +2,4 @@ export * from './queue.js';
 export * from './events.js';
 export * from './spec.js';
 export * from './ingest.js';
+export * from './config.js';
