@@ -1,0 +1,44 @@
+import { Global, Module, type DynamicModule } from '@nestjs/common';
+import { AdminModule } from './admin/admin.module.js';
+import { API_CONFIG, type ApiConfig } from './app-config.js';
+import { AuthModule } from './auth/auth.module.js';
+import { JsonLogger } from './http/logger.js';
+import { OpsModule } from './ops/ops.module.js';
+import { PrismaModule } from './prisma.provider.js';
+
+/** Process-wide values every module may inject: the config (API_CONFIG) and the JSON logger. */
+@Global()
+@Module({})
+class CoreModule {
+  static with(config: ApiConfig, logger: JsonLogger): DynamicModule {
+    return {
+      module: CoreModule,
+      providers: [
+        { provide: API_CONFIG, useValue: config },
+        { provide: JsonLogger, useValue: logger },
+      ],
+      exports: [API_CONFIG, JsonLogger],
+    };
+  }
+}
+
+/**
+ * The API's root module. Feature modules go into the imports list below; every controller in them
+ * is guarded by AccessGuard and must carry @Access and an entry in auth/endpoint-matrix.ts.
+ */
+@Module({})
+export class AppModule {
+  static forRoot(config: ApiConfig, logger: JsonLogger): DynamicModule {
+    return {
+      module: AppModule,
+      imports: [
+        CoreModule.with(config, logger),
+        PrismaModule,
+        AuthModule,
+        OpsModule,
+        AdminModule,
+        // Feature modules (ingest, queries, stream) are added here.
+      ],
+    };
+  }
+}
