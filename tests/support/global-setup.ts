@@ -40,7 +40,7 @@ const REACH_TIMEOUT_MS = 2_000;
 /** Databases of other runs older than this are assumed abandoned (a crashed or killed run). */
 const STALE_AFTER_S = 2 * 60 * 60;
 const MIGRATIONS_DIR = fileURLToPath(new URL('../../prisma/migrations', import.meta.url));
-const PURE_FILTER = /^(\.\/)?libs\/(metallurgy|compliance)(\/|$)/;
+const PURE_FILTER = /^(\.\/)?libs\/(metallurgy|compliance|contracts)(\/|$)/;
 
 export default async function setup(project: TestProject): Promise<(() => Promise<void>) | void> {
   const runId = `${Math.floor(Date.now() / 1000)}_${randomBytes(3).toString('hex')}`;
