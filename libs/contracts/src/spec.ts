@@ -82,9 +82,9 @@ export const PlausibleSignal = z
 export type PlausibleSignal = z.infer<typeof PlausibleSignal>;
 
 export const TwinTolerance = z.strictObject({
-  /** Two thermocouples on one bath (or one furnace) may differ by at most this much ... */
+  /** Two thermocouples on one bath that differ by more than this ... */
   maxDiffC: z.number().finite().positive(),
-  /** ... for at most this long continuously. */
+  /** ... continuously for at least this long disagree (furnace zones may differ by design and are not paired). */
   minDurationS: nonNegativeSeconds,
 });
 export type TwinTolerance = z.infer<typeof TwinTolerance>;

@@ -10,7 +10,7 @@ import {
 } from './deviation-state.js';
 
 const at = new Date('2025-03-04T10:00:00Z');
-const quality: DeviationActor = { kind: 'user', userId: 'u-q', label: 'q@plant.test', roles: ['QUALITY'] };
+const quality: DeviationActor = { kind: 'user', userId: 'u-q', label: 'q@plant.test', displayName: 'Q. Inspector', roles: ['QUALITY'] };
 const metallurgist: DeviationActor = { kind: 'user', userId: 'u-m', label: 'm@plant.test', roles: ['METALLURGIST'] };
 const admin: DeviationActor = { kind: 'user', userId: 'u-a', label: 'a@plant.test', roles: ['ADMIN'] };
 const system: DeviationActor = { kind: 'system', label: 'worker' };
@@ -52,6 +52,7 @@ describe('applyDeviationAction', () => {
         dispositionReason: 're-austenitize and austemper again',
         dispositionedById: 'u-q',
         dispositionedAt: at,
+        signer: 'Q. Inspector',
       });
       expect(r.audit).toMatchObject({ fromStatus: from, toStatus: 'DISPOSITIONED', disposition: 'RETREAT', actorUserId: 'u-q' });
     }

@@ -34,7 +34,8 @@ export type DeviationSeverity = (typeof DEVIATION_SEVERITIES)[number];
 export type UserRole = 'METALLURGIST' | 'QUALITY' | 'ADMIN';
 
 export type DeviationActor =
-  | { kind: 'user'; userId: string; label: string; roles: readonly UserRole[] }
+  /** label: the login (email) for audit rows; displayName: the name printed as signer on certificates. */
+  | { kind: 'user'; userId: string; label: string; displayName?: string; roles: readonly UserRole[] }
   | { kind: 'system'; label: string };
 
 export type DeviationAction =
@@ -51,6 +52,8 @@ export interface DeviationLifecycle {
   disposition: Disposition | null;
   dispositionReason: string | null;
   dispositionRef: string | null;
+  /** Name of the person who signed the disposition, as printed on certificates. */
+  signer: string | null;
   dispositionedById: string | null;
   dispositionedAt: Date | null;
   acknowledgedById: string | null;
@@ -168,6 +171,7 @@ export function applyDeviationAction(
       next.dispositionRef = ref;
       next.dispositionedById = userId;
       next.dispositionedAt = at;
+      next.signer = actor.kind === 'user' ? (actor.displayName ?? actor.label) : null;
       break;
     }
     case 'CLOSE':
@@ -210,6 +214,7 @@ export function openedDeviationLifecycle(): DeviationLifecycle {
     disposition: null,
     dispositionReason: null,
     dispositionRef: null,
+    signer: null,
     dispositionedById: null,
     dispositionedAt: null,
     acknowledgedById: null,
