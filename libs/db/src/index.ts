@@ -11,3 +11,4 @@ export {
   type RunMigrationsOptions,
   type RunMigrationsResult,
 } from './migrate/run-migrations.js';
+export * from './repositories/deviations.js';
