@@ -20,7 +20,6 @@ import {
   START_POSTGRES,
   START_REDIS,
   TEMPLATE_DB_PREFIX,
-  TEST_DATABASE_URL,
   TEST_DB_PREFIX,
   TEST_REDIS_URL,
   adminDatabaseUrl,
@@ -75,18 +74,21 @@ export default async function setup(project: TestProject): Promise<(() => Promis
 }
 
 /** Fails with the start commands when Postgres or Redis cannot be reached within 2 s. */
-export async function requireServices(): Promise<void> {
-  const [pgProblem, redisProblem] = await Promise.all([checkPostgres(), checkRedis()]);
+export async function requireServices(
+  databaseUrl: string = adminDatabaseUrl(),
+  redisUrl: string = TEST_REDIS_URL,
+): Promise<void> {
+  const [pgProblem, redisProblem] = await Promise.all([checkPostgres(databaseUrl), checkRedis(redisUrl)]);
   if (!pgProblem && !redisProblem) return;
   const lines = ['The tests need a running PostgreSQL and Redis.'];
   if (pgProblem) {
     lines.push(
-      `PostgreSQL at ${redactUrl(TEST_DATABASE_URL)} is not reachable (${pgProblem}). Start it with:`,
+      `PostgreSQL at ${redactUrl(databaseUrl)} is not reachable (${pgProblem}). Start it with:`,
       `    ${START_POSTGRES}`,
     );
   }
   if (redisProblem) {
-    lines.push(`Redis at ${TEST_REDIS_URL} is not reachable (${redisProblem}). Start it with:`, `    ${START_REDIS}`);
+    lines.push(`Redis at ${redactUrl(redisUrl)} is not reachable (${redisProblem}). Start it with:`, `    ${START_REDIS}`);
   }
   lines.push('Elsewhere point TEST_DATABASE_URL / TEST_REDIS_URL at your servers.');
   const error = new Error(lines.join('\n'));
@@ -94,9 +96,9 @@ export async function requireServices(): Promise<void> {
   throw error;
 }
 
-async function checkPostgres(): Promise<string | undefined> {
+async function checkPostgres(databaseUrl: string): Promise<string | undefined> {
   const client = new pg.Client({
-    connectionString: adminDatabaseUrl(),
+    connectionString: databaseUrl,
     connectionTimeoutMillis: REACH_TIMEOUT_MS,
     query_timeout: REACH_TIMEOUT_MS,
   });
@@ -113,8 +115,8 @@ async function checkPostgres(): Promise<string | undefined> {
 }
 
 /** A raw PING over TCP: no client library retry loops, a hard 2 s limit. */
-function checkRedis(): Promise<string | undefined> {
-  const url = new URL(TEST_REDIS_URL);
+function checkRedis(redisUrl: string): Promise<string | undefined> {
+  const url = new URL(redisUrl);
   const host = url.hostname.replace(/^\[|\]$/g, '') || '127.0.0.1';
   const port = Number(url.port || 6379);
   return new Promise((resolve) => {
