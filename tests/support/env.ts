@@ -13,6 +13,9 @@ export const TEST_DB_PREFIX = 'ausline_test_';
 /** Template databases: `${TEST_DB_PREFIX}tpl_<epochSeconds>_<random>`. */
 export const TEMPLATE_DB_PREFIX = `${TEST_DB_PREFIX}tpl_`;
 
+/** Every Redis key the tests create starts with this (see redis.ts testQueuePrefix). */
+export const REDIS_TEST_PREFIX = 'ausline-test:';
+
 /** The connection string for database `name` on the test server. */
 export function databaseUrlFor(name: string, base: string = TEST_DATABASE_URL): string {
   const url = new URL(base);

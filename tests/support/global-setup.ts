@@ -13,10 +13,12 @@
 import { randomBytes } from 'node:crypto';
 import { createConnection } from 'node:net';
 import { fileURLToPath } from 'node:url';
+import { Redis } from 'ioredis';
 import pg from 'pg';
 import type { TestProject } from 'vitest/node';
 import { runMigrations } from '../../libs/db/src/migrate/run-migrations.js';
 import {
+  REDIS_TEST_PREFIX,
   START_POSTGRES,
   START_REDIS,
   TEMPLATE_DB_PREFIX,
@@ -53,6 +55,7 @@ export default async function setup(project: TestProject): Promise<(() => Promis
 
   await requireServices();
   await dropStaleTestDatabases();
+  await deleteStaleRedisKeys().catch(() => {});
 
   const templateDb = `${TEMPLATE_DB_PREFIX}${runId}`;
   await withAdminClient((client) => client.query(`CREATE DATABASE "${templateDb}"`));
@@ -70,6 +73,7 @@ export default async function setup(project: TestProject): Promise<(() => Promis
     for (const { name } of names) {
       if (name === templateDb || name.includes(runId)) await dropDatabase(name);
     }
+    await deleteRedisKeys(`${REDIS_TEST_PREFIX}${runId}:`).catch(() => {});
   };
 }
 
@@ -185,4 +189,31 @@ async function dropStaleTestDatabases(): Promise<void> {
       await dropDatabase(name).catch(() => {});
     }
   }
+}
+
+/** Deletes every Redis key under `prefix` (SCAN, never KEYS); returns how many. */
+export async function deleteRedisKeys(prefix: string, matches: (key: string) => boolean = () => true): Promise<number> {
+  const redis = new Redis(TEST_REDIS_URL, { maxRetriesPerRequest: 1, connectTimeout: 2_000 });
+  let deleted = 0;
+  try {
+    let cursor = '0';
+    do {
+      const [next, keys] = await redis.scan(cursor, 'MATCH', `${prefix}*`, 'COUNT', 1000);
+      cursor = next;
+      const doomed = keys.filter(matches);
+      if (doomed.length > 0) deleted += await redis.del(...doomed);
+    } while (cursor !== '0');
+  } finally {
+    redis.disconnect();
+  }
+  return deleted;
+}
+
+/** Queue keys of runs that died long ago: `ausline-test:<epochS>_<hex>:...`. */
+async function deleteStaleRedisKeys(): Promise<void> {
+  const nowS = Date.now() / 1000;
+  await deleteRedisKeys(REDIS_TEST_PREFIX, (key) => {
+    const epoch = /^ausline-test:(\d{10})_/.exec(key)?.[1];
+    return epoch !== undefined && nowS - Number(epoch) > STALE_AFTER_S;
+  });
 }

@@ -8,7 +8,8 @@
 import { randomBytes } from 'node:crypto';
 import { Redis } from 'ioredis';
 import { inject } from 'vitest';
-import { TEST_REDIS_URL } from './env.js';
+import { REDIS_TEST_PREFIX, TEST_REDIS_URL } from './env.js';
+import { deleteRedisKeys } from './global-setup.js';
 
 export { TEST_REDIS_URL } from './env.js';
 
@@ -16,7 +17,7 @@ export { TEST_REDIS_URL } from './env.js';
 export function testQueuePrefix(label = 'q'): string {
   const runId = inject('ausline_runId') || 'norun';
   const safeLabel = label.replace(/[^A-Za-z0-9_-]/g, '-');
-  return `ausline-test:${runId}:${safeLabel}:${randomBytes(4).toString('hex')}`;
+  return `${REDIS_TEST_PREFIX}${runId}:${safeLabel}:${randomBytes(4).toString('hex')}`;
 }
 
 /** A Redis connection for tests; fails fast instead of retrying forever when Redis is gone. */
@@ -25,18 +26,4 @@ export function createTestRedis(): Redis {
 }
 
 /** Deletes every key under `prefix` (SCAN, never KEYS). Returns how many were deleted. */
-export async function deleteRedisKeys(prefix: string): Promise<number> {
-  const redis = createTestRedis();
-  let deleted = 0;
-  try {
-    let cursor = '0';
-    do {
-      const [next, keys] = await redis.scan(cursor, 'MATCH', `${prefix}*`, 'COUNT', 500);
-      cursor = next;
-      if (keys.length > 0) deleted += await redis.del(...keys);
-    } while (cursor !== '0');
-  } finally {
-    redis.disconnect();
-  }
-  return deleted;
-}
+export { deleteRedisKeys };
