@@ -2,9 +2,12 @@ import { Global, Module, type DynamicModule } from '@nestjs/common';
 import { AdminModule } from './admin/admin.module.js';
 import { API_CONFIG, type ApiConfig } from './app-config.js';
 import { AuthModule } from './auth/auth.module.js';
+import { IngestModule } from './ingest/ingest.module.js';
 import { JsonLogger } from './http/logger.js';
 import { OpsModule } from './ops/ops.module.js';
 import { PrismaModule } from './prisma.provider.js';
+import { QueriesModule } from './queries/queries.module.js';
+import { StreamModule } from './stream/stream.module.js';
 
 /** Process-wide values every module may inject: the config (API_CONFIG) and the JSON logger. */
 @Global()
@@ -38,6 +41,9 @@ export class AppModule {
         OpsModule,
         AdminModule,
         // Feature modules (ingest, queries, stream) are added here.
+        IngestModule,
+        QueriesModule,
+        StreamModule,
       ],
     };
   }
