@@ -20,6 +20,7 @@ describe('loadConfig', () => {
       IDEMPOTENCY_TTL_H: 24,
       STREAM_HEARTBEAT_S: 15,
       WORKER_CONCURRENCY: 2,
+      WORKER_METRICS_PORT: 9464,
       RECONCILE_INTERVAL_S: 10,
       SHUTDOWN_TIMEOUT_MS: 10_000,
     });

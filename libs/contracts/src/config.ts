@@ -81,6 +81,7 @@ export const ConfigSchema = z.object({
   IDEMPOTENCY_TTL_H: wholeNumber(1, 24 * 365, 24),
   STREAM_HEARTBEAT_S: wholeNumber(1, 3600, 15),
   WORKER_CONCURRENCY: wholeNumber(1, 64, 2),
+  WORKER_METRICS_PORT: wholeNumber(0, 65535, 9464),
   RECONCILE_INTERVAL_S: wholeNumber(1, 3600, 10),
   SHUTDOWN_TIMEOUT_MS: wholeNumber(100, 600_000, 10_000),
 });
@@ -112,6 +113,7 @@ export const CONFIG_VARIABLES: readonly ConfigVariableDoc[] = [
   { name: 'IDEMPOTENCY_TTL_H', required: false, defaultValue: '24', description: 'Hours a stored Idempotency-Key reply is kept; at least the controllers\' longest buffering time.' },
   { name: 'STREAM_HEARTBEAT_S', required: false, defaultValue: '15', description: 'Seconds between heartbeat comments on the live event stream.' },
   { name: 'WORKER_CONCURRENCY', required: false, defaultValue: '2', description: 'Recompute jobs one worker process runs at once.' },
+  { name: 'WORKER_METRICS_PORT', required: false, defaultValue: '9464', description: 'Port of the worker\'s Prometheus /metrics and /health endpoint (0 = any free port); separate from PORT so api and worker can share a host.' },
   { name: 'RECONCILE_INTERVAL_S', required: false, defaultValue: '10', description: 'Seconds between the worker\'s scans for stale batches (recompute that could not be queued).' },
   { name: 'SHUTDOWN_TIMEOUT_MS', required: false, defaultValue: '10000', description: 'Longest graceful shutdown before the process exits anyway.' },
 ];
