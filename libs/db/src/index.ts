@@ -12,3 +12,4 @@ export {
   type RunMigrationsResult,
 } from './migrate/run-migrations.js';
 export * from './repositories/deviations.js';
+export * from './repositories/recompute-inputs.js';

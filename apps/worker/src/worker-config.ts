@@ -1,0 +1,26 @@
+import type { AppConfig } from '@ausline/contracts';
+
+/** Injection token of the loaded configuration (loadConfig from @ausline/contracts). */
+export const WORKER_CONFIG = Symbol('WORKER_CONFIG');
+/** Injection token of the resolved runtime options below. */
+export const WORKER_OPTIONS = Symbol('WORKER_OPTIONS');
+
+export interface WorkerRuntimeOptions {
+  /** Port of the /metrics and /health endpoint; null = no HTTP endpoint (tests), 0 = any free port. */
+  metricsPort: number | null;
+  metricsHost: string;
+  /** File touched on every reconcile tick so a container healthcheck can see the worker is alive; null = none. */
+  aliveFile: string | null;
+  /** Run the reconciler (stale batches, in-progress batches) on its interval. */
+  reconcile: boolean;
+  /** How far back a CHARGED event may lie for the batch to count as in progress (re-evaluated by time). */
+  inProgressWithinMs: number;
+  /** Evaluate in-progress batches every this many reconcile ticks. */
+  inProgressEveryTicks: number;
+}
+
+/** The worker's share of the configuration, with a fallback while WORKER_METRICS_PORT is not in loadConfig. */
+export function metricsPortFrom(config: AppConfig): number {
+  const value = (config as AppConfig & { WORKER_METRICS_PORT?: number }).WORKER_METRICS_PORT;
+  return typeof value === 'number' ? value : 9464;
+}
