@@ -21,8 +21,10 @@ RUN npm ci --no-audit --no-fund
 COPY apps ./apps
 COPY libs ./libs
 # The apps' project references build the libs they use; libs/db also carries the migration command.
+# The dashboard (static files the api serves from apps/dashboard/dist) is built when it is part of the tree.
 RUN npm run prisma:generate \
  && npx tsc -b libs/db apps/api apps/worker \
+ && if [ -f apps/dashboard/package.json ]; then npm run build:dashboard; fi \
  && npm prune --omit=dev --ignore-scripts --no-audit --no-fund
 
 # ---- runtime: compiled code, production dependencies, the SQL migrations ----

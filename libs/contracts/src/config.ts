@@ -107,7 +107,7 @@ export const CONFIG_VARIABLES: readonly ConfigVariableDoc[] = [
   { name: 'SESSION_TTL_MIN', required: false, defaultValue: '480', description: 'Minutes a login session lasts (480 = one shift).' },
   { name: 'PLANT_TIME_ZONE', required: false, defaultValue: 'UTC', description: 'IANA time zone for plant-local display when a line has none.' },
   { name: 'LOG_LEVEL', required: false, defaultValue: 'info', description: `JSON log level: ${LOG_LEVELS.join(', ')}.` },
-  { name: 'DASHBOARD_DIR', required: false, description: 'Folder of the built dashboard that the api serves; unset = no dashboard.' },
+  { name: 'DASHBOARD_DIR', required: false, description: 'Folder of the built dashboard that the api serves; unset = apps/dashboard/dist when it exists (else no dashboard).' },
   { name: 'CORS_ORIGINS', required: false, defaultValue: '', description: 'Comma-separated exact origins allowed by CORS; empty = CORS closed.' },
   { name: 'SAMPLE_MAX_FUTURE_S', required: false, defaultValue: '300', description: 'Samples and events stamped more than this many seconds ahead of the server clock are rejected.' },
   { name: 'IDEMPOTENCY_TTL_H', required: false, defaultValue: '24', description: 'Hours a stored Idempotency-Key reply is kept; at least the controllers\' longest buffering time.' },
