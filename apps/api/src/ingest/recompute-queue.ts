@@ -21,6 +21,8 @@ export interface EnqueueOutcome {
 const ENQUEUE_TIMEOUT_MS = 2_000;
 /** Right after start the Redis connection may still be opening; wait this long for it at most. */
 const CONNECT_GRACE_MS = 1_000;
+/** How long after start the connection counts as "still opening" rather than "down". */
+const STARTUP_WINDOW_MS = 10_000;
 /** Log a Redis connection error at most this often (a down Redis otherwise floods the log). */
 const ERROR_LOG_INTERVAL_MS = 30_000;
 
@@ -41,6 +43,9 @@ export class RecomputeQueue implements OnApplicationShutdown {
   private readonly unregisterDepth: () => void;
   private readonly logger: JsonLogger;
   private lastErrorLogAt = 0;
+  private readonly startedAt = Date.now();
+  private everReady = false;
+  private connectFailed = false;
 
   constructor(
     @Inject(API_CONFIG) config: ApiConfig,
@@ -54,7 +59,13 @@ export class RecomputeQueue implements OnApplicationShutdown {
       connectTimeout: 2_000,
       retryStrategy: (attempt) => Math.min(attempt * 250, 5_000),
     });
-    this.connection.on('error', (error) => this.logRedisError(error));
+    this.connection.on('error', (error) => {
+      this.connectFailed = true;
+      this.logRedisError(error);
+    });
+    this.connection.on('ready', () => {
+      this.everReady = true;
+    });
     this.queue = new Queue<RecomputeJob>(RECOMPUTE_QUEUE, { connection: this.connection, prefix: config.QUEUE_PREFIX });
     this.queue.on('error', (error) => this.logRedisError(error));
     this.unregisterDepth = registerQueueDepthSource(RECOMPUTE_QUEUE, () => this.queue.getJobCounts());
@@ -67,9 +78,15 @@ export class RecomputeQueue implements OnApplicationShutdown {
   async enqueue(batchIds: Iterable<string>, reason: RecomputeReason): Promise<EnqueueOutcome> {
     const ids = [...new Set(batchIds)];
     if (ids.length === 0) return { enqueued: 0, markedStale: 0 };
-    if (this.connection.status !== 'ready') await this.waitForConnection(CONNECT_GRACE_MS);
-
-    const results = await Promise.allSettled(ids.map((batchId) => withTimeout(this.add(batchId, reason), ENQUEUE_TIMEOUT_MS)));
+    const stillOpening = !this.everReady && !this.connectFailed && Date.now() - this.startedAt < STARTUP_WINDOW_MS;
+    if (this.connection.status !== 'ready' && stillOpening) {
+      await this.waitForConnection(CONNECT_GRACE_MS);
+    }
+    // Known to be down: do not wait for BullMQ to give up, go straight to the stale flag.
+    const results: Array<PromiseSettledResult<unknown>> =
+      this.connection.status === 'ready'
+        ? await Promise.allSettled(ids.map((batchId) => withTimeout(this.add(batchId, reason), ENQUEUE_TIMEOUT_MS)))
+        : ids.map(() => ({ status: 'rejected', reason: new Error(`Redis connection is ${this.connection.status}`) }));
     const failed = ids.filter((_, i) => results[i]!.status === 'rejected');
     if (failed.length > 0) {
       const firstError = (results.find((r) => r.status === 'rejected') as PromiseRejectedResult).reason;
