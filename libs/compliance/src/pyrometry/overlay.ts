@@ -6,6 +6,7 @@
 
 import { compareIntervals, describeInterval, assertInterval } from './calendar.js';
 import { deltaCToDeltaF } from './limits.js';
+import { deepFreeze } from './reference/sourcing.js';
 import type {
   AccuracyLimit,
   CalibrationIntervalValue,
@@ -232,7 +233,7 @@ export function applyReferenceOverlay(base: PyrometryReference, overlay: Referen
   if (errors.length > 0) return { ok: false, errors };
   ref.id = `${base.id}+overlay(${overlay.source})`;
   ref.overlays = [...base.overlays, overlay.source];
-  return { ok: true, reference: ref as PyrometryReference };
+  return { ok: true, reference: deepFreeze(ref as PyrometryReference) };
 }
 
 function positive(n: unknown): n is number {

@@ -21,7 +21,7 @@ import {
   type UniformityTolerance,
   type UsesLimit,
 } from '../types.js';
-import { fact, forRevision, notGiven, type Fact } from './sourcing.js';
+import { deepFreeze, fact, forRevision, notGiven, type Fact } from './sourcing.js';
 
 export const AMS2750_REVISIONS = ['E', 'F', 'G', 'H'] as const;
 export type Ams2750Revision = (typeof AMS2750_REVISIONS)[number];
@@ -293,7 +293,7 @@ function build(revision: Ams2750Revision): PyrometryReference {
   };
 }
 
-export const AMS2750E: PyrometryReference = build('E');
-export const AMS2750F: PyrometryReference = build('F');
-export const AMS2750G: PyrometryReference = build('G');
-export const AMS2750H: PyrometryReference = build('H');
+export const AMS2750E: PyrometryReference = deepFreeze(build('E'));
+export const AMS2750F: PyrometryReference = deepFreeze(build('F'));
+export const AMS2750G: PyrometryReference = deepFreeze(build('G'));
+export const AMS2750H: PyrometryReference = deepFreeze(build('H'));

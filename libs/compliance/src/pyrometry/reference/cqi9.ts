@@ -17,7 +17,7 @@ import {
   type UsesLimit,
 } from '../types.js';
 import { AMS2750G } from './ams2750.js';
-import { fact, forRevision, notGiven, type Fact } from './sourcing.js';
+import { deepFreeze, fact, forRevision, notGiven, type Fact } from './sourcing.js';
 
 export const CQI9_EDITIONS = ['3', '4'] as const;
 export type Cqi9Edition = (typeof CQI9_EDITIONS)[number];
@@ -170,11 +170,11 @@ function build(edition: Cqi9Edition): PyrometryReference {
   };
 }
 
-export const CQI9_3: PyrometryReference = build('3');
-export const CQI9_4: PyrometryReference = build('4');
+export const CQI9_3: PyrometryReference = deepFreeze(build('3'));
+export const CQI9_4: PyrometryReference = deepFreeze(build('4'));
 
 /** Where CQI-9 and AMS 2750 differ, as practice.md §1.1–1.2 gives it; for screens and reviews. */
-export const CQI9_DIFFERENCES_FROM_AMS2750: readonly { topic: string; cqi9: string; ams2750: string; source: string }[] = [
+export const CQI9_DIFFERENCES_FROM_AMS2750: readonly { topic: string; cqi9: string; ams2750: string; source: string }[] = deepFreeze([
   { topic: 'SAT probe tip distance', cqi9: 'at most 50 mm', ams2750: 'at most 76 mm (3 in)', source: 'practice.md §1.1 SAT [S13, S14]' },
   {
     topic: 'SAT limit',
@@ -209,4 +209,4 @@ export const CQI9_DIFFERENCES_FROM_AMS2750: readonly { topic: string; cqi9: stri
     ams2750: 'by furnace class 1–6 (±3 to ±28 °C)',
     source: 'practice.md §1.2 process tables [S21, S23]; §1.1 furnace classes [S2, S70]',
   },
-];
+]);

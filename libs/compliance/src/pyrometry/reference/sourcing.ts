@@ -56,3 +56,15 @@ export function notGiven<T>(what: string): Sourced<T | null> {
     note: `not given in practice.md (${what}); enter it from the plant's copy of the standard`,
   };
 }
+
+/**
+ * Freezes a reference set all the way down. The sets are shared module constants; a caller that
+ * changed one in place would silently change every later judgement in the process.
+ */
+export function deepFreeze<T>(value: T): T {
+  if (value !== null && typeof value === 'object' && !Object.isFrozen(value)) {
+    Object.freeze(value);
+    for (const v of Object.values(value as Record<string, unknown>)) deepFreeze(v);
+  }
+  return value;
+}

@@ -2,12 +2,13 @@
 // metal, and the tolerance of new wire (ASTM E230 / IEC 60584, as tabulated in practice.md §1.1).
 
 import type { AccuracyLimit, SensorMetal, Sourced, ThermocoupleType } from '../types.js';
+import { deepFreeze } from './sourcing.js';
 
 /**
  * Noble-metal types are B, R and S (practice.md §1.2 [S25]: "Noble-metal TCs (B, R, S) may be
  * recalibrated"); the others are base metal.
  */
-export const THERMOCOUPLE_METAL: Readonly<Record<ThermocoupleType, SensorMetal>> = {
+export const THERMOCOUPLE_METAL: Readonly<Record<ThermocoupleType, SensorMetal>> = deepFreeze({
   B: 'noble-metal',
   R: 'noble-metal',
   S: 'noble-metal',
@@ -16,7 +17,7 @@ export const THERMOCOUPLE_METAL: Readonly<Record<ThermocoupleType, SensorMetal>>
   K: 'base-metal',
   N: 'base-metal',
   T: 'base-metal',
-};
+});
 
 export type WireGrade = 'standard' | 'special';
 
@@ -39,7 +40,7 @@ const notInTable = (type: ThermocoupleType): Sourced<AccuracyLimit | null> => ({
 });
 
 /** Tolerance of new thermocouple wire by type and grade. */
-export const THERMOCOUPLE_WIRE_TOLERANCE: Readonly<Record<ThermocoupleType, Readonly<Record<WireGrade, Sourced<AccuracyLimit | null>>>>> = {
+export const THERMOCOUPLE_WIRE_TOLERANCE: Readonly<Record<ThermocoupleType, Readonly<Record<WireGrade, Sourced<AccuracyLimit | null>>>>> = deepFreeze({
   K: { standard: kOrNStandard, special: kOrNSpecial },
   N: { standard: kOrNStandard, special: kOrNSpecial },
   // "Type J: same as K" [S74].
@@ -53,4 +54,4 @@ export const THERMOCOUPLE_WIRE_TOLERANCE: Readonly<Record<ThermocoupleType, Read
   B: { standard: notInTable('B'), special: notInTable('B') },
   E: { standard: notInTable('E'), special: notInTable('E') },
   T: { standard: notInTable('T'), special: notInTable('T') },
-};
+});
