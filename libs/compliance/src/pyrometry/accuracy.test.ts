@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { judgeAccuracyTest, judgeSensorCalibration, type AccuracyTestInput } from './accuracy.js';
+import { judgeAccuracyTest, judgeInstrumentCalibration, judgeSensorCalibration, type AccuracyTestInput } from './accuracy.js';
 import { PyrometryInputError } from './errors.js';
 import { resolveLimit } from './limits.js';
 import { AMS2750E, AMS2750G, CQI9_3 } from './reference/index.js';
@@ -206,5 +206,23 @@ describe('sensor accuracy limits (whichever is greater)', () => {
     expect(judgeSensorCalibration('control', [{ atC: 300, correctionC: 2.2 }], AMS2750E).verdict).toBe('pass');
     expect(judgeSensorCalibration('control', [{ atC: 300, correctionC: 2.3 }], AMS2750E).verdict).toBe('fail');
     expect(judgeSensorCalibration('load', [{ atC: 300, correctionC: 0.1 }], AMS2750E)).toMatchObject({ verdict: 'invalid' });
+  });
+});
+
+describe('instrument accuracy limits', () => {
+  // Field test instruments ±0.6 °C (±1 °F) or 0.1 %: practice.md §1.1 instruments [M], from memory.
+  it('judges a field test instrument certificate, flagging the limit as unconfirmed', () => {
+    const r = judgeInstrumentCalibration('field-test', [
+      { atC: 300, correctionC: 0.5 }, // band 0.6 °C
+      { atC: 900, correctionC: -0.85 }, // band max(0.6, 0.9) = 0.9 °C
+      { atC: 1000, correctionC: 1.05 }, // band 1.0 °C: fails
+    ], AMS2750G);
+    expect(r.points.map((p) => [p.bandC, p.passed])).toEqual([
+      [0.6, true],
+      [0.9, true],
+      [1, false],
+    ]);
+    expect(r).toMatchObject({ verdict: 'fail', confirmed: false, limitKey: 'AMS2750G instrumentAccuracy field-test' });
+    expect(r.note).toMatch(/from memory/);
   });
 });

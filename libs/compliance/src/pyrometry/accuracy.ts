@@ -10,7 +10,7 @@ import { applyCalibrationCorrection, type CorrectionResult } from './correction.
 import { PyrometryInputError, requireFinite, requireInstant } from './errors.js';
 import { resolveLimit, round, withinBand, type LimitUnit } from './limits.js';
 import { lookupKeyed } from './reference/index.js';
-import type { CalibrationPoint, FurnaceClass, InstrumentationType, PyrometryReference, SatMethod, SensorUse } from './types.js';
+import type { AccuracyLimit, CalibrationPoint, FurnaceClass, InstrumentationType, InstrumentUse, PyrometryReference, SatMethod, SensorUse, Sourced } from './types.js';
 
 export type Verdict = 'pass' | 'fail' | 'invalid';
 
@@ -155,13 +155,13 @@ export function judgeAccuracyTest(input: AccuracyTestInput, reference: Pyrometry
   };
 }
 
-export interface SensorCalibrationCheck {
+export interface CalibrationCheck {
   readonly verdict: Verdict;
   readonly passed: boolean;
   readonly limitKey: string;
   readonly points: readonly {
     readonly atC: number;
-    /** Error of the sensor at this point: −correction. */
+    /** Error at this point: −correction. */
     readonly errorC: number;
     readonly bandC: number;
     readonly passed: boolean;
@@ -171,18 +171,12 @@ export interface SensorCalibrationCheck {
   readonly note: string;
 }
 
-/**
- * Checks each point of a sensor's calibration certificate against the accuracy limit for the use
- * the sensor is put to (e.g. test sensors ±1.1 °C or 0.4 %, [S6] for AMS 2750E).
- */
-export function judgeSensorCalibration(
-  sensorUse: SensorUse,
+function judgeCalibrationPoints(
+  limitKey: string,
+  sourced: Sourced<AccuracyLimit | null>,
   calibrationPoints: readonly CalibrationPoint[],
-  reference: PyrometryReference,
-  unit: LimitUnit = 'C',
-): SensorCalibrationCheck {
-  const limitKey = `${reference.id} sensorAccuracy ${sensorUse}`;
-  const sourced = reference.sensorAccuracy[sensorUse];
+  unit: LimitUnit,
+): CalibrationCheck {
   if (sourced.value === null) {
     return { verdict: 'invalid', passed: false, limitKey, points: [], problems: [`no accuracy limit in ${limitKey}: ${sourced.note}`], confirmed: false, note: sourced.note };
   }
@@ -198,4 +192,31 @@ export function judgeSensorCalibration(
   });
   const passed = points.every((p) => p.passed);
   return { verdict: passed ? 'pass' : 'fail', passed, limitKey, points, problems: [], confirmed: sourced.confirmed, note: sourced.note };
+}
+
+/**
+ * Checks each point of a sensor's calibration certificate against the accuracy limit for the use
+ * the sensor is put to (e.g. test sensors ±1.1 °C or 0.4 %, [S6] for AMS 2750E). Pass or fail of a
+ * calibration record comes from here, not from a typed-in flag.
+ */
+export function judgeSensorCalibration(
+  sensorUse: SensorUse,
+  calibrationPoints: readonly CalibrationPoint[],
+  reference: PyrometryReference,
+  unit: LimitUnit = 'C',
+): CalibrationCheck {
+  return judgeCalibrationPoints(`${reference.id} sensorAccuracy ${sensorUse}`, reference.sensorAccuracy[sensorUse], calibrationPoints, unit);
+}
+
+/**
+ * The same for an instrument (controller, recorder, field test instrument): each calibration
+ * point's correction against the instrument accuracy limit for its use.
+ */
+export function judgeInstrumentCalibration(
+  instrumentUse: InstrumentUse,
+  calibrationPoints: readonly CalibrationPoint[],
+  reference: PyrometryReference,
+  unit: LimitUnit = 'C',
+): CalibrationCheck {
+  return judgeCalibrationPoints(`${reference.id} instrumentAccuracy ${instrumentUse}`, reference.instrumentAccuracy[instrumentUse], calibrationPoints, unit);
 }

@@ -237,6 +237,19 @@ describe('sensor replacement by uses and age (AMS 2750G Table 6, [S11])', () => 
     expect(replacement(emptyHistory, undefined, bath([{ ...bathSensor, expendable: true }]))).toMatchObject({ status: 'no-rule' });
   });
 
+  it('an expiry date on the sensor record is its own item: valid through that day', () => {
+    const eq = bath([{ ...bathSensor, expiresOn: '2024-03-31' }]);
+    const expiry = (iso: string) => item(computeDueItems(eq, emptyHistory, d(iso), AMS2750G), 'sensor-expiry', 'B1-TC');
+    expect(expiry('2024-03-31T23:59:59Z')).toMatchObject({ dueDate: '2024-03-31', status: 'due-soon' });
+    expect(expiry('2024-04-01T00:00:00Z').status).toBe('overdue');
+    expect(isEquipmentCompliantAt(eq, emptyHistory, d('2024-04-01T00:00:00Z'), AMS2750G, { noRule: 'ignore' }).findings).toMatchObject([
+      { kind: 'sensor-expired', subjectId: 'B1-TC' },
+    ]);
+    expect(() => computeDueItems(bath([{ ...bathSensor, expiresOn: '2024-02-30' }]), emptyHistory, d('2024-02-01T00:00:00Z'), AMS2750G)).toThrow(
+      /equipment\.sensors\[0\]\.expiresOn/,
+    );
+  });
+
   it('retired sensors have no due items', () => {
     const items = computeDueItems(bath([{ ...bathSensor, retiredAt: d('2024-01-20T00:00:00Z') }]), emptyHistory, d('2024-02-01T00:00:00Z'), AMS2750G);
     expect(items).toEqual([]);

@@ -16,7 +16,7 @@
 //   use temperature recorded for the sensor (conservative: one hot use puts the sensor in the hotter
 //   band's lower use limit). When uses so far ≥ the limit, the sensor may not be used again.
 
-import { addInterval, daysBetween, describeInterval, localDateOf, type CalendarDate } from './calendar.js';
+import { addDays, addInterval, daysBetween, describeInterval, localDateOf, type CalendarDate } from './calendar.js';
 import { PyrometryInputError, requireInstant } from './errors.js';
 import { lookupKeyed } from './reference/index.js';
 import { THERMOCOUPLE_METAL } from './reference/thermocouples.js';
@@ -44,6 +44,11 @@ export interface SensorRecord {
   readonly installedAt: Date | null;
   /** When it was taken out of service; a retired sensor has no due items. */
   readonly retiredAt?: Date | null;
+  /**
+   * Last calendar day the sensor may be used, when its certificate or the plant sets one
+   * (independent of the standard's age and use limits, which are computed separately).
+   */
+  readonly expiresOn?: CalendarDate | null;
 }
 
 export interface InstrumentRecord {
@@ -101,7 +106,7 @@ export interface PyrometryHistory {
   readonly sensorUses: readonly SensorUseRecord[];
 }
 
-export type DueItemKind = 'tus' | 'sat' | 'sensor-calibration' | 'instrument-calibration' | 'sensor-replacement';
+export type DueItemKind = 'tus' | 'sat' | 'sensor-calibration' | 'instrument-calibration' | 'sensor-replacement' | 'sensor-expiry';
 export type DueStatus = 'ok' | 'due-soon' | 'overdue' | 'no-rule';
 export type DueCause =
   | 'within-interval'
@@ -219,6 +224,13 @@ function validate(record: EquipmentRecord, history: PyrometryHistory, now: Date)
   record.sensors.forEach((s, i) => {
     if (s.installedAt !== null) requireInstant(s.installedAt, `equipment.sensors[${i}].installedAt`);
     if (!(s.thermocoupleType in THERMOCOUPLE_METAL)) throw new PyrometryInputError(`equipment.sensors[${i}].thermocoupleType`, `unknown thermocouple type ${JSON.stringify(s.thermocoupleType)}`);
+    if (s.expiresOn !== undefined && s.expiresOn !== null) {
+      try {
+        addDays(s.expiresOn, 0);
+      } catch {
+        throw new PyrometryInputError(`equipment.sensors[${i}].expiresOn`, `not a calendar date (YYYY-MM-DD): ${JSON.stringify(s.expiresOn)}`);
+      }
+    }
   });
   history.tests.forEach((t, i) => requireInstant(t.at, `history.tests[${i}].at`));
   history.calibrations.forEach((c, i) => requireInstant(c.at, `history.calibrations[${i}].at`));
@@ -305,6 +317,18 @@ export function computeDueItems(
     );
     if (item) items.push(item);
     items.push(replacementItem(eq.equipmentId, sensor, history, now, today, reference, { ...opts, dueSoonUses: options.dueSoonUses }));
+    if (sensor.expiresOn) {
+      items.push({
+        kind: 'sensor-expiry',
+        equipmentId: eq.equipmentId,
+        subjectId: sensor.sensorId,
+        dueDate: sensor.expiresOn,
+        lastPassAt: null,
+        lastFailAt: null,
+        rules: [{ key: `sensor ${sensor.sensorId} expiresOn`, value: sensor.expiresOn, confirmed: true, note: 'from the sensor record (certificate or plant entry), not from the reference set' }],
+        ...dateStatus(today, sensor.expiresOn, opts.dueSoonDays, `expiry of sensor ${sensor.sensorId}`),
+      });
+    }
   }
 
   for (const instrument of eq.instruments) {
@@ -419,7 +443,7 @@ function replacementItem(
   };
 }
 
-export type FindingKind = 'overdue' | 'failed' | 'never-passed' | 'sensor-use-limit' | 'sensor-age-limit' | 'record-incomplete' | 'no-rule';
+export type FindingKind = 'overdue' | 'failed' | 'never-passed' | 'sensor-use-limit' | 'sensor-age-limit' | 'sensor-expired' | 'record-incomplete' | 'no-rule';
 
 export interface ComplianceFinding {
   readonly kind: FindingKind;
@@ -479,7 +503,9 @@ export function isEquipmentCompliantAt(
         cause === 'past-due-date'
           ? item.kind === 'sensor-replacement'
             ? 'sensor-age-limit'
-            : 'overdue'
+            : item.kind === 'sensor-expiry'
+              ? 'sensor-expired'
+              : 'overdue'
           : cause === 'last-result-failed'
             ? 'failed'
             : cause === 'never-passed'

@@ -27,7 +27,7 @@ export type Cqi9Edition = (typeof CQI9_EDITIONS)[number];
 const EDITION_NOT_STATED = 'the CQI-9 edition of that source is not stated in practice.md';
 
 function build(edition: Cqi9Edition): PyrometryReference {
-  const r = <T>(f: Fact<T>): Sourced<T> => forRevision(f, 'CQI-9', edition);
+  const r = <T>(f: Fact<T>): Sourced<T> => forRevision(f, 'CQI-9 edition', edition);
 
   // CQI-9 uses the AMS 2750 instrumentation letters; its own definitions are not in practice.md,
   // so the AMS 2750G requirements are reused and flagged as unconfirmed for CQI-9.
