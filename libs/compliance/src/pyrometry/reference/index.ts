@@ -56,3 +56,31 @@ export function lookupKeyed<T>(reference: PyrometryReference, item: string, keye
 export function lookupContext(furnaceClass: FurnaceClass, instrumentationType: InstrumentationType, satMethod?: LookupContext['satMethod']): LookupContext {
   return satMethod ? { furnaceClass, instrumentationType, satMethod } : { furnaceClass, instrumentationType };
 }
+
+/** One value of a reference set, flattened for review screens. */
+export interface ReferenceValueListing {
+  /** Path inside the set, e.g. "satDifferenceLimit.byClass.2". */
+  readonly path: string;
+  readonly value: unknown;
+  readonly confirmed: boolean;
+  readonly note: string;
+}
+
+/**
+ * Every sourced value of a reference set, so a screen can list what the plant must confirm
+ * against its own copy of the standard (confirmed: false) next to what practice.md confirmed.
+ */
+export function listReferenceValues(reference: PyrometryReference): ReferenceValueListing[] {
+  const out: ReferenceValueListing[] = [];
+  const walk = (node: unknown, path: string): void => {
+    if (node === null || typeof node !== 'object') return;
+    const o = node as Record<string, unknown>;
+    if ('value' in o && 'confirmed' in o && 'note' in o && typeof o.confirmed === 'boolean') {
+      out.push({ path, value: o.value, confirmed: o.confirmed, note: String(o.note) });
+      return;
+    }
+    for (const [k, v] of Object.entries(o)) walk(v, path ? `${path}.${k}` : k);
+  };
+  walk(reference, '');
+  return out;
+}

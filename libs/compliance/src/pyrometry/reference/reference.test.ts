@@ -11,6 +11,7 @@ import {
   FROM_MEMORY,
   findPyrometryReference,
   lookupContext,
+  listReferenceValues,
   lookupKeyed,
   PYROMETRY_REFERENCES,
   THERMOCOUPLE_METAL,
@@ -134,5 +135,17 @@ describe('reference data provenance', () => {
     expect(THERMOCOUPLE_WIRE_TOLERANCE.J.standard.value).toEqual(THERMOCOUPLE_WIRE_TOLERANCE.K.standard.value);
     expect(THERMOCOUPLE_WIRE_TOLERANCE.S.standard.value?.pctOfReading).toBe(0.25);
     expect(THERMOCOUPLE_WIRE_TOLERANCE.T.standard.value).toBeNull();
+  });
+});
+
+describe('listReferenceValues', () => {
+  it('lists every value with its path so a screen can show what is unconfirmed', () => {
+    const all = listReferenceValues(AMS2750G);
+    expect(all.find((v) => v.path === 'uniformityTolerance.byClass.2')).toMatchObject({ value: { plusMinusC: 6, plusMinusF: 10 }, confirmed: true });
+    expect(all.find((v) => v.path === 'satDifferenceLimit.byClass.1')).toMatchObject({ confirmed: false });
+    expect(all.find((v) => v.path === 'sensorReplacement.0.bands.1.maxUses')).toMatchObject({ value: 270, confirmed: true });
+    const confirmed = all.filter((v) => v.confirmed).length;
+    expect(confirmed).toBeGreaterThan(10);
+    expect(all.length - confirmed).toBeGreaterThan(confirmed); // most of the class × type tables are not in practice.md
   });
 });
