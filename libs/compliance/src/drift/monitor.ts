@@ -462,7 +462,10 @@ export function startDriftMonitor(input: DriftMonitorInput): DriftMonitorState {
   };
 }
 
-/** Feed the next lot. Pure: returns a new state; the old one is untouched. */
+/**
+ * Feed the next lot. Pure: returns a new state; the old one is untouched. A lot id still in the kept
+ * window is refused; beyond that window the caller (the worker, keyed by lot id) owns idempotency.
+ */
 export function stepDriftMonitor(state: DriftMonitorState, lot: LotValue): DriftStepResult {
   if (state === null || typeof state !== 'object' || state.schema !== 'ausline.drift-state/v1') throw new DriftInputError('state', "must be a state from startDriftMonitor (schema 'ausline.drift-state/v1')");
   assertLotSeries([lot], 'lot');
