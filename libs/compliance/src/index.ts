@@ -1,1 +1,2 @@
-export {};
+export * from './drift/index.js';
+export * from './pyrometry/index.js';
