@@ -98,3 +98,86 @@ export function postEvent(world: IngestWorld, batchId: string, kind: string, at:
 export async function countSamples(world: IngestWorld): Promise<number> {
   return world.db.prisma.sample.count();
 }
+
+/** One server-sent event as read off the wire; comments (heartbeats) have `comment` set instead. */
+export interface SseMessage {
+  id?: string;
+  event?: string;
+  data?: string;
+  comment?: string;
+}
+
+export interface EventStream {
+  status: number;
+  headers: Headers;
+  /** Everything received so far, in order. */
+  messages: SseMessage[];
+  /** Resolves with the first message (already received or later) that satisfies `predicate`. */
+  waitFor(predicate: (m: SseMessage) => boolean, timeoutMs?: number): Promise<SseMessage>;
+  close(): void;
+}
+
+/** Opens GET `url` as an event stream with fetch and parses it as it arrives (no EventSource in Node 20). */
+export async function openEventStream(url: string, headers: Record<string, string> = {}): Promise<EventStream> {
+  const controller = new AbortController();
+  const res = await fetch(url, { headers: { accept: 'text/event-stream', ...headers }, signal: controller.signal });
+  const messages: SseMessage[] = [];
+  const waiters: Array<{ predicate: (m: SseMessage) => boolean; resolve: (m: SseMessage) => void }> = [];
+  const deliver = (m: SseMessage): void => {
+    messages.push(m);
+    for (const w of [...waiters]) {
+      if (w.predicate(m)) {
+        waiters.splice(waiters.indexOf(w), 1);
+        w.resolve(m);
+      }
+    }
+  };
+  if (res.ok && res.body) {
+    const reader = res.body.pipeThrough(new TextDecoderStream()).getReader();
+    let buffer = '';
+    void (async () => {
+      try {
+        for (;;) {
+          const { value, done } = await reader.read();
+          if (done) break;
+          buffer += value;
+          let end: number;
+          while ((end = buffer.indexOf('\n\n')) !== -1) {
+            const block = buffer.slice(0, end);
+            buffer = buffer.slice(end + 2);
+            const message: SseMessage = {};
+            for (const line of block.split('\n')) {
+              if (line.startsWith(':')) message.comment = line.slice(1).trim();
+              else if (line.startsWith('id: ')) message.id = line.slice(4);
+              else if (line.startsWith('event: ')) message.event = line.slice(7);
+              else if (line.startsWith('data: ')) message.data = (message.data === undefined ? '' : `${message.data}\n`) + line.slice(6);
+            }
+            deliver(message);
+          }
+        }
+      } catch {
+        // aborted by close()
+      }
+    })();
+  }
+  return {
+    status: res.status,
+    headers: res.headers,
+    messages,
+    waitFor(predicate, timeoutMs = 5_000) {
+      const found = messages.find(predicate);
+      if (found) return Promise.resolve(found);
+      return new Promise((resolve, reject) => {
+        const waiter = { predicate, resolve: (m: SseMessage) => (clearTimeout(timer), resolve(m)) };
+        const timer = setTimeout(() => {
+          waiters.splice(waiters.indexOf(waiter), 1);
+          reject(new Error(`no matching server-sent event within ${timeoutMs} ms; got ${JSON.stringify(messages)}`));
+        }, timeoutMs);
+        waiters.push(waiter);
+      });
+    },
+    close() {
+      controller.abort();
+    },
+  };
+}
