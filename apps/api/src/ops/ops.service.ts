@@ -51,6 +51,8 @@ export class OpsService implements OnModuleInit, OnApplicationShutdown {
         await this.prisma.$queryRaw`SELECT 1`;
       }),
       timed(async () => {
+        // Right after start (or during a reconnect) give the connection the check's time to come up.
+        await untilReady(this.redis);
         const reply = await this.redis.ping();
         if (reply !== 'PONG') throw new Error(`unexpected PING reply ${reply}`);
       }),
@@ -65,6 +67,22 @@ export class OpsService implements OnModuleInit, OnApplicationShutdown {
     this.lastRedisErrorLogAt = now;
     this.logger.event('warn', { msg: 'redis connection problem (ops)', detail: error.message });
   }
+}
+
+function untilReady(redis: Redis, timeoutMs = CHECK_TIMEOUT_MS): Promise<void> {
+  if (redis.status === 'ready') return Promise.resolve();
+  if (redis.status === 'end') return Promise.reject(new Error('connection closed'));
+  return new Promise<void>((resolve, reject) => {
+    const onReady = () => {
+      clearTimeout(timer);
+      resolve();
+    };
+    const timer = setTimeout(() => {
+      redis.off('ready', onReady);
+      reject(new Error(`not connected within ${timeoutMs} ms (${redis.status})`));
+    }, timeoutMs);
+    redis.once('ready', onReady);
+  });
 }
 
 async function timed(check: () => Promise<void>): Promise<DependencyCheck> {
