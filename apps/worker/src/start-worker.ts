@@ -5,7 +5,7 @@ import type { AppConfig } from '@ausline/contracts';
 import { WorkerLogger } from './logger.js';
 import { MetricsServer } from './ops/metrics-server.js';
 import { Reconciler } from './reconcile/reconciler.js';
-import { metricsPortFrom, type WorkerRuntimeOptions } from './worker-config.js';
+import type { WorkerRuntimeOptions } from './worker-config.js';
 import { WorkerModule } from './worker.module.js';
 
 export interface StartWorkerOptions extends Partial<WorkerRuntimeOptions> {
@@ -31,7 +31,7 @@ export interface RunningWorker {
 export async function startWorker(config: AppConfig, options: StartWorkerOptions = {}): Promise<RunningWorker> {
   const logger = options.logger ?? new WorkerLogger(config.LOG_LEVEL);
   const runtime: WorkerRuntimeOptions = {
-    metricsPort: options.metricsPort === undefined ? metricsPortFrom(config) : options.metricsPort,
+    metricsPort: options.metricsPort === undefined ? config.WORKER_METRICS_PORT : options.metricsPort,
     metricsHost: options.metricsHost ?? config.HOST,
     aliveFile: options.aliveFile === undefined ? '/tmp/ausline-worker.alive' : options.aliveFile,
     reconcile: options.reconcile ?? true,

@@ -1,5 +1,3 @@
-import type { AppConfig } from '@ausline/contracts';
-
 /** Injection token of the loaded configuration (loadConfig from @ausline/contracts). */
 export const WORKER_CONFIG = Symbol('WORKER_CONFIG');
 /** Injection token of the resolved runtime options below. */
@@ -17,10 +15,4 @@ export interface WorkerRuntimeOptions {
   inProgressWithinMs: number;
   /** Evaluate in-progress batches every this many reconcile ticks. */
   inProgressEveryTicks: number;
-}
-
-/** The worker's share of the configuration, with a fallback while WORKER_METRICS_PORT is not in loadConfig. */
-export function metricsPortFrom(config: AppConfig): number {
-  const value = (config as AppConfig & { WORKER_METRICS_PORT?: number }).WORKER_METRICS_PORT;
-  return typeof value === 'number' ? value : 9464;
 }

@@ -4,6 +4,7 @@ import { UnrecoverableError, type Job } from 'bullmq';
 import { RECOMPUTE_QUEUE, RecomputeJob, type AppConfig } from '@ausline/contracts';
 import { WorkerLogger, errorMessage } from '../logger.js';
 import { WorkerMetrics } from '../ops/worker-metrics.js';
+import { DRAIN_SHARE, settledWithin } from '../shutdown-budget.js';
 import { WORKER_CONFIG } from '../worker-config.js';
 import { BatchNotFoundError, RecomputeService } from './recompute.service.js';
 import { InvalidSpecError } from './steps.js';
@@ -66,19 +67,14 @@ export class RecomputeProcessor extends WorkerHost implements OnApplicationBoots
 
   /**
    * Drains before anything closes: stop taking jobs and let running ones finish, but no longer than
-   * most of the shutdown budget; then close hard (a job cut off stalls and is retried by another worker).
+   * most of the shutdown budget; then close hard (a job cut off stalls and another worker retries it).
+   * BullMQ's close() waits for running jobs without a limit and a later close(true) would only join it,
+   * so the wait is done with pause() and the close itself is forced.
    */
   async beforeApplicationShutdown(): Promise<void> {
-    const budgetMs = Math.max(100, Math.floor(this.config.SHUTDOWN_TIMEOUT_MS * 0.7));
-    let timer: NodeJS.Timeout | undefined;
-    const timedOut = await Promise.race([
-      this.worker.close().then(() => false),
-      new Promise<boolean>((resolve) => (timer = setTimeout(() => resolve(true), budgetMs))),
-    ]);
-    clearTimeout(timer);
-    if (timedOut) {
-      this.logger.event('warn', { msg: 'recompute jobs still running at shutdown; closing hard', budgetMs });
-      await this.worker.close(true);
-    }
+    const budgetMs = Math.max(100, Math.floor(this.config.SHUTDOWN_TIMEOUT_MS * DRAIN_SHARE));
+    const drained = await settledWithin(this.worker.pause(), budgetMs);
+    if (!drained) this.logger.event('warn', { msg: 'recompute jobs still running at shutdown; closing hard', budgetMs });
+    await this.worker.close(true);
   }
 }
