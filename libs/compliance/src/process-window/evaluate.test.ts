@@ -262,6 +262,22 @@ describe('bath-band-excursion', () => {
   });
 });
 
+describe('sparse readings', () => {
+  it('does not assume the bath stayed in band between readings further apart than the allowed gap', () => {
+    const s = baseChannels();
+    // tc1 logs once a minute (allowed gap 30 s), and two consecutive readings are out of band
+    s.tc1 = s.tc1.filter((x) => (x.tMs - s.tc1[0].tMs) % 60_000 === 0);
+    s.tc1 = patch(s.tc1, INTO_BATH + 30 * MIN - 1, INTO_BATH + 31 * MIN + 1, () => 388);
+    const r = evaluateProcessWindow(input(s));
+    expect(only(r, 'channel-gap')[0]?.channelId).toBe('c-tc1');
+    // out of band from 30:00 until the next reading back in band at 32:00: 120 s is not more than allowed...
+    expect(only(r, 'bath-band-excursion')).toEqual([]);
+    // ...but three readings out of band in a row (30:00–32:00, back at 33:00) are 180 s
+    s.tc1 = patch(s.tc1, INTO_BATH + 32 * MIN - 1, INTO_BATH + 32 * MIN + 1, () => 388);
+    expect(only(evaluateProcessWindow(input(s)), 'bath-band-excursion')[0]?.details.longestExcursionS).toBe(180);
+  });
+});
+
 describe('hold-min and hold-max', () => {
   it('raises hold-min for a finished hold shorter than the minimum', () => {
     const r = evaluateProcessWindow(input(baseChannels(), { events: { ...events, outOfBathMs: INTO_BATH + 50 * MIN } }));
