@@ -2,6 +2,7 @@ import { Global, Module, type DynamicModule } from '@nestjs/common';
 import { AdminModule } from './admin/admin.module.js';
 import { API_CONFIG, type ApiConfig } from './app-config.js';
 import { AuthModule } from './auth/auth.module.js';
+import { DashboardModule } from './dashboard/dashboard.module.js';
 import { IngestModule } from './ingest/ingest.module.js';
 import { JsonLogger } from './http/logger.js';
 import { OpsModule } from './ops/ops.module.js';
@@ -44,6 +45,7 @@ export class AppModule {
         IngestModule,
         QueriesModule,
         StreamModule,
+        DashboardModule,
       ],
     };
   }

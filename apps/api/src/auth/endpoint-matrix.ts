@@ -91,6 +91,9 @@ export const ENDPOINT_MATRIX: readonly EndpointEntry[] = [
   { method: 'POST', path: '/v1/deviations/:id/close', access: QUALITY },
   // Live events (server-sent events; EventSource clients may pass ?token=).
   { method: 'GET', path: '/v1/stream', access: SIGNED_IN, stream: true },
+
+  // --- dashboard (W): chart series; the built app itself is static middleware, not a route --------
+  { method: 'GET', path: '/v1/batches/:id/series', access: SIGNED_IN },
 ];
 
 /**
