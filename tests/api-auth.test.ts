@@ -244,6 +244,24 @@ describe('API keys', () => {
     expect((await send('GET', '/v1/api-keys', { headers })).status).toBe(403);
   });
 
+  it('a key for bath 2 posts samples for bath 2; for bath 3 it gets 403 and nothing is stored', async () => {
+    for (const equipmentId of [plant.bath2Id, plant.bath3Id]) {
+      await prisma.channel.create({ data: { equipmentId, code: 'tc1', quantity: 'TEMPERATURE_C', role: 'BATH_TC' } });
+    }
+    const key = await createApiKeyFor(api.app, { scope: 'EQUIPMENT', equipmentIds: [plant.bath2Id] });
+    const body = { samples: [{ channel: 'tc1', t: new Date(Date.now() - 60_000).toISOString(), value: 365.2 }] };
+    const own = await send('POST', `/v1/equipment/${plant.bath2Id}/samples`, { headers: key.headers, body });
+    expect(own.status, own.text).toBeLessThan(300);
+    expect(own.json).toMatchObject({ stored: 1 });
+    const foreign = await send('POST', `/v1/equipment/${plant.bath3Id}/samples`, { headers: key.headers, body });
+    expect(foreign.status).toBe(403);
+    expect(foreign.json.message).toContain(plant.bath3Id);
+    const bath3Samples = await prisma.sample.count({ where: { channel: { equipmentId: plant.bath3Id } } });
+    expect(bath3Samples).toBe(0);
+    // Not even an admin's session may post samples: that is the controllers' job.
+    expect((await send('POST', `/v1/equipment/${plant.bath2Id}/samples`, { headers: admin.headers, body })).status).toBe(403);
+  });
+
   it('a revoked key is refused from the next request on; revoking again keeps the first time', async () => {
     const key = await createApiKeyFor(api.app, { scope: 'EQUIPMENT', equipmentIds: [plant.bath2Id] });
     expect((await send('GET', '/v1/me', { headers: key.headers })).status).toBe(200);

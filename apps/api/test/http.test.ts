@@ -228,7 +228,10 @@ describe('OpenAPI', () => {
     expect(createLine['x-access']).toEqual({ roles: ['ADMIN'], keys: [] });
     const schema = createLine.requestBody.content['application/json'].schema;
     expect(schema.required).toEqual(expect.arrayContaining(['code', 'name', 'timeZone']));
+    expect(createLine.responses).toHaveProperty('401');
+    expect(createLine.responses['403'].content['application/json'].schema.required).toContain('issues');
     expect(doc.paths['/v1/auth/login'].post['x-access']).toEqual({ public: true });
+    expect(doc.paths['/v1/auth/login'].post.responses).not.toHaveProperty('403');
     expect(doc.paths['/v1/equipment/{id}/channels'].get['x-access']).toMatchObject({ keys: ['EQUIPMENT'], equipmentParam: 'id' });
     expect(doc.components.securitySchemes).toHaveProperty('session');
     expect(doc.components.securitySchemes).toHaveProperty('apiKey');

@@ -1,5 +1,6 @@
 import { applyDecorators, createParamDecorator, SetMetadata, type ExecutionContext } from '@nestjs/common';
 import { ApiBearerAuth, ApiExtension, ApiSecurity } from '@nestjs/swagger';
+import { ApiErrors } from '../http/openapi.js';
 
 /**
  * Who may call an endpoint. Every route handler carries exactly one @Access; the global AccessGuard
@@ -54,6 +55,7 @@ export function Access(rule: AccessRule): MethodDecorator & ClassDecorator {
   const decorators = [SetMetadata(ACCESS_METADATA, rule), ApiExtension('x-access', describeRule(rule))];
   if (!rule.public && (rule.roles?.length ?? 0) > 0) decorators.push(ApiBearerAuth('session'));
   if (!rule.public && keys.length > 0) decorators.push(ApiSecurity('apiKey'));
+  if (!rule.public) decorators.push(ApiErrors(401, 403));
   return applyDecorators(...decorators);
 }
 

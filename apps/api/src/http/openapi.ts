@@ -65,8 +65,8 @@ const ERROR_DESCRIPTIONS: Record<number, string> = {
   422: 'Well-formed but not acceptable in the current state',
 };
 
-/** Documents error replies (401 and 403 are added for every non-public endpoint by default). */
-export function ApiErrors(...statuses: number[]): MethodDecorator {
+/** Documents error replies (@Access adds 401 and 403 to every non-public endpoint itself). */
+export function ApiErrors(...statuses: number[]): ReturnType<typeof applyDecorators> {
   return applyDecorators(
     ...statuses.map((status) =>
       ApiResponse({ status, description: ERROR_DESCRIPTIONS[status] ?? 'Error', schema: ERROR_BODY_SCHEMA as never }),
