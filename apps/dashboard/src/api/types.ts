@@ -1,0 +1,333 @@
+/**
+ * Shapes of the API replies the dashboard reads (JSON: dates are ISO strings). They mirror
+ * apps/api (controllers' return types, Prisma models); only the fields the screens use are listed.
+ */
+
+export type Role = 'METALLURGIST' | 'QUALITY' | 'ADMIN';
+
+export interface PublicUser {
+  id: string;
+  email: string;
+  displayName: string;
+  roles: Role[];
+  active: boolean;
+  createdAt: string;
+}
+
+export interface LoginReply {
+  token: string;
+  tokenType: 'Bearer';
+  expiresAt: string;
+  user: PublicUser;
+}
+
+export interface Page<T> {
+  items: T[];
+  total: number;
+  nextCursor: string | null;
+}
+
+export interface Channel {
+  id: string;
+  equipmentId: string;
+  code: string;
+  quantity: string;
+  role: string;
+  createdAt: string;
+}
+
+export interface Equipment {
+  id: string;
+  lineId: string;
+  kind: 'FURNACE' | 'BATH';
+  code: string;
+  name: string;
+  createdAt: string;
+  channels: Channel[];
+}
+
+export interface Line {
+  id: string;
+  code: string;
+  name: string;
+  timeZone: string;
+  hCoefficientByAgitation: Record<string, number> | null;
+  createdAt: string;
+  equipment: Equipment[];
+}
+
+export type BatchStatus = 'PLANNED' | 'IN_FURNACE' | 'IN_TRANSFER' | 'IN_BATH' | 'DONE';
+export type LoadEventKind = 'CHARGED' | 'OUT_OF_FURNACE' | 'INTO_BATH' | 'OUT_OF_BATH';
+
+export interface Batch {
+  id: string;
+  code: string;
+  lineId: string;
+  heatId: string;
+  specVersionId: string;
+  partCount: number;
+  weightKg: number;
+  sectionShape: 'PLATE' | 'CYLINDER' | 'SQUARE_BAR';
+  sectionSizeMm: number;
+  status: BatchStatus;
+  scheduledHoldMin: number | null;
+  stale: boolean;
+  staleSince: string | null;
+  createdAt: string;
+  updatedAt: string;
+}
+
+export interface BatchListItem extends Batch {
+  line: { code: string };
+  heat: { heatNumber: string };
+  specVersion: { version: number; spec: { id: string; code: string } };
+}
+
+export interface LoadEvent {
+  id: string;
+  batchId: string;
+  kind: LoadEventKind;
+  at: string;
+  equipmentId: string;
+  equipmentCode: string;
+  receivedAt: string;
+}
+
+export interface ChannelSummary {
+  channelId: string;
+  channelCode: string;
+  equipmentId: string;
+  equipmentCode: string;
+  equipmentKind: string;
+  quantity: string;
+  role: string;
+  count: number;
+  min: number | null;
+  max: number | null;
+  first: { t: string; value: number } | null;
+  last: { t: string; value: number } | null;
+}
+
+export type DeviationStatus = 'OPEN' | 'ACKNOWLEDGED' | 'DISPOSITIONED' | 'CLOSED' | 'CLEARED';
+export type DeviationSeverity = 'MINOR' | 'MAJOR' | 'CRITICAL';
+export type Disposition = 'USE_AS_IS' | 'RETREAT' | 'SCRAP' | 'CONCESSION';
+
+export interface Deviation {
+  id: string;
+  batchId: string | null;
+  lineId: string;
+  productSpecId: string | null;
+  channelId: string | null;
+  rule: string;
+  severity: DeviationSeverity;
+  status: DeviationStatus;
+  message: string;
+  details: Record<string, unknown> | null;
+  conditionPresent: boolean;
+  disposition: Disposition | null;
+  dispositionReason: string | null;
+  dispositionRef: string | null;
+  signer: string | null;
+  dispositionedAt: string | null;
+  acknowledgedAt: string | null;
+  closedAt: string | null;
+  clearedAt: string | null;
+  version: number;
+  openedAt: string;
+  lastEvaluatedAt: string;
+  updatedAt: string;
+}
+
+export interface DeviationListItem extends Deviation {
+  batch: { code: string } | null;
+  line: { code: string };
+  channel: { code: string } | null;
+}
+
+export interface DeviationAudit {
+  id: string;
+  deviationId: string;
+  at: string;
+  action: string;
+  actorKind: 'USER' | 'SYSTEM';
+  actor: string;
+  fromStatus: DeviationStatus | null;
+  toStatus: DeviationStatus;
+  reason: string | null;
+  disposition: Disposition | null;
+  details: unknown;
+}
+
+export interface DeviationWithAudit extends DeviationListItem {
+  audits: DeviationAudit[];
+}
+
+export interface LabResult {
+  id: string;
+  batchId: string;
+  kind: 'HARDNESS' | 'RETAINED_AUSTENITE' | 'TENSILE' | 'IMPACT';
+  values: Record<string, unknown>;
+  scale: string | null;
+  testStandard: string | null;
+  externalRef: string;
+  measuredAt: string | null;
+  postedAt: string;
+}
+
+export interface PredictionRowApi {
+  id: string;
+  batchId: string;
+  version: number;
+  modelVersion: string;
+  watermark: string | null;
+  phase: string;
+  result: unknown;
+  createdAt: string;
+}
+
+export interface BatchDetail extends Batch {
+  line: { id: string; code: string; name: string; timeZone: string };
+  heat: { id: string; heatNumber: string; material: 'STEEL' | 'DUCTILE_IRON'; grade: string | null; revision: number; chemistryWtPct: Record<string, number> };
+  spec: { id: string; code: string; name: string; versionId: string; version: number; status: string };
+  events: LoadEvent[];
+  samplesWindow: { from: string; to: string; open: boolean } | null;
+  samplesSummary: ChannelSummary[];
+  deviations: Deviation[];
+  labResults: LabResult[];
+  latestPrediction: PredictionRowApi | null;
+}
+
+export interface ChannelSeries {
+  channelId: string;
+  channelCode: string;
+  equipmentId: string;
+  equipmentCode: string;
+  equipmentKind: string;
+  quantity: string;
+  role: string;
+  count: number;
+  decimated: boolean;
+  bucketMs: number | null;
+  points: Array<[number, number]>;
+}
+
+export interface BatchSeries {
+  batchId: string;
+  window: { from: string; to: string; open: boolean } | null;
+  channels: ChannelSeries[];
+}
+
+export interface Heat {
+  id: string;
+  heatNumber: string;
+  material: 'STEEL' | 'DUCTILE_IRON';
+  grade: string | null;
+  chemistryWtPct: Record<string, number>;
+  source: string;
+  revision: number;
+  createdAt: string;
+  updatedAt: string;
+}
+
+export interface HeatRevision {
+  id: string;
+  heatId: string;
+  revision: number;
+  material: string;
+  grade: string | null;
+  chemistryWtPct: Record<string, number>;
+  source: string;
+  changedBy: string;
+  changedAt: string;
+  reason: string;
+}
+
+export interface HeatWithRevisions extends Heat {
+  revisions: HeatRevision[];
+}
+
+/** GET /v1/heats/:id/diagram (requested of issue 4; may not exist yet). */
+export interface HeatDiagram {
+  t0: Array<{ tempC: number; t0CarbonWtPct: number; t0PrimeCarbonWtPct: number }>;
+  ae3: Array<{ carbonWtPct: number; tempC: number }>;
+  bsC: number | null;
+  msC: number | null;
+  meanCarbonWtPct?: number;
+  advisedBath?: { minTempC: number; maxTempC: number; minHoldMin?: number; reasons?: Record<string, string> };
+}
+
+export interface ElementLimit {
+  minWtPct?: number;
+  maxWtPct?: number;
+}
+
+export interface ProcessWindow {
+  austenitize: { minTempC: number; maxTempC: number; minMinutes: number; maxMinutes?: number };
+  maxTransferS: number;
+  bath: { minTempC: number; maxTempC: number; maxExcursionS: number; minHoldMin: number; maxHoldMin: number };
+  maxChannelGapS: number;
+  flatline: { minDurationS: number; epsilonC: number };
+  plausible: { minTempC: number; maxTempC: number; maxRateCPerS: number };
+  twinTolerance: { maxDiffC: number; minDurationS: number };
+}
+
+export interface AcceptanceCriteria {
+  hardness?: { scale: 'HV' | 'HRC' | 'HBW'; min: number; max: number };
+  tensile?: { minTensileMPa?: number; maxTensileMPa?: number; minYieldMPa?: number; minElongationPct?: number };
+  minImpactJ?: number;
+  minBainiteFraction?: number;
+  maxFreshMartensiteFraction?: number;
+  maxBlockyAusteniteFraction?: number;
+  minFilmToBlockRatio?: number;
+  maxRetainedAusteniteFraction?: number;
+  minMsMarginC?: number;
+  minBsMarginC?: number;
+  minSiPlusAlWtPct?: number;
+}
+
+export interface SpecVersion {
+  id: string;
+  specId: string;
+  version: number;
+  status: 'DRAFT' | 'APPROVED' | 'SUPERSEDED';
+  createdBy: string | null;
+  approvedBy: string | null;
+  approvedAt: string | null;
+  chemistryLimits: Record<string, ElementLimit>;
+  processWindow: ProcessWindow;
+  acceptanceCriteria: AcceptanceCriteria;
+  createdAt: string;
+}
+
+export interface Spec {
+  id: string;
+  code: string;
+  name: string;
+  material: 'STEEL' | 'DUCTILE_IRON';
+  description: string | null;
+  createdAt: string;
+  versions: SpecVersion[];
+}
+
+export interface ApiKeyView {
+  id: string;
+  prefix: string;
+  label: string;
+  scope: 'EQUIPMENT' | 'LAB';
+  equipmentIds: string[];
+  createdAt: string;
+  revokedAt: string | null;
+}
+
+export interface CreatedApiKey extends ApiKeyView {
+  key: string;
+}
+
+export interface CreatedUser {
+  user: PublicUser;
+  oneTimePassword?: string;
+}
+
+export type LiveEvent =
+  | { type: 'batch.updated'; batchId: string; lineId: string; at: string }
+  | { type: 'deviation.changed'; deviationId: string; batchId: string | null; lineId: string | null; rule: string; status: string; at: string };

@@ -1,0 +1,259 @@
+import type { AnnotationOptions } from 'chartjs-plugin-annotation';
+import { ApiError } from '../api/client.js';
+import type { BatchDetail, BatchListItem, HeatDiagram, HeatWithRevisions, Page, Spec, SpecVersion } from '../api/types.js';
+import type { ViewFactory } from '../app/view.js';
+import { Chart, COLORS, setupCharts } from '../charts/setup.js';
+import { checkChemistry, chemistryConforms, type ElementCheck } from '../lib/chemistry.js';
+import { fmtBatchStatus, fmtC, fmtLimits, fmtNum, fmtWtPct } from '../lib/format.js';
+import { readPrediction } from '../lib/prediction.js';
+import { formatDateTime } from '../lib/time.js';
+import { h, link, replace, select } from '../ui/dom.js';
+import { showError } from '../ui/notice.js';
+import { facts, loading } from '../ui/widgets.js';
+
+/**
+ * One heat: its chemistry (every revision) against a product spec's limits, the receipt check, and the
+ * temperature–carbon diagram of this heat: T0 and T0′ (how much carbon austenite can take before
+ * bainite stops), Ae3, the Bs and Ms levels, the heat's carbon and the bath window.
+ *
+ * The curves come from GET /v1/heats/:id/diagram when the API has it (requested of the prediction
+ * work, issue 4). Until then the diagram shows what exists: the heat's carbon, the spec's bath window
+ * and the Ae3/Bs/Ms/T0 values found in the predictions of the heat's loads, and says the curves are
+ * missing rather than drawing invented ones.
+ */
+
+export const heatView: ViewFactory = (ctx, route) => {
+  const id = route.parts[1]!;
+  const zone = ctx.plantZone;
+  const head = h('div', { class: 'page-head' }, h('h1', null, 'Heat'), loading());
+  const errors = h('div');
+  const chemCard = h('section', { class: 'card' });
+  const diagramCard = h('section', { class: 'card charts' });
+  const batchesCard = h('section', { class: 'card' });
+  const revCard = h('section', { class: 'card' });
+  const el = h('section', { class: 'heat', dataset: { heatId: id } }, head, errors, h('div', { class: 'heat-grid' }, diagramCard, chemCard), batchesCard, revCard);
+
+  setupCharts();
+  const canvas = h('canvas', { attrs: { role: 'img', 'aria-label': 'Temperature against carbon: T0, T0′ and Ae3 lines, Bs and Ms levels, the heat\u2019s carbon and the bath window' } });
+  const chartBox = h('div', { class: 'chart-box tall', dataset: { chart: 'diagram' } }, canvas);
+  let chart: Chart | null = null;
+  let heat: HeatWithRevisions | null = null;
+  let specs: Spec[] = [];
+  let batches: BatchListItem[] = [];
+  let diagram: HeatDiagram | null = null;
+  let diagramProblem: string | null = null;
+  let predictions: Array<{ code: string; p: NonNullable<ReturnType<typeof readPrediction>> }> = [];
+  let specId = route.query.get('spec');
+
+  async function load(): Promise<void> {
+    try {
+      const [hh, sp, bl] = await Promise.all([
+        ctx.api.get<HeatWithRevisions>(`/v1/heats/${id}`),
+        ctx.specs(),
+        ctx.api.get<Page<BatchListItem>>('/v1/batches', { query: { heatId: id, limit: 50 } }),
+      ]);
+      heat = hh;
+      specs = sp;
+      batches = bl.items;
+      if (!specId || !specs.some((s) => s.id === specId)) {
+        specId = batches[0]?.specVersion.spec.id ?? specs.find((s) => s.material === hh.material)?.id ?? null;
+      }
+      try {
+        diagram = await ctx.api.get<HeatDiagram>(`/v1/heats/${id}/diagram`, { query: { fromC: 150, toC: 950, stepC: 10 } });
+        diagramProblem = null;
+      } catch (error) {
+        diagram = null;
+        diagramProblem = error instanceof ApiError && error.status === 404 ? 'missing' : error instanceof Error ? error.message : String(error);
+      }
+      // Values the model computed for loads of this heat (newest first, at most five).
+      const details = await Promise.all(batches.slice(0, 5).map((b) => ctx.api.get<BatchDetail>(`/v1/batches/${b.id}`)));
+      predictions = details.flatMap((d) => {
+        const p = readPrediction(d.latestPrediction);
+        return p ? [{ code: d.code, p }] : [];
+      });
+      render();
+    } catch (error) {
+      showError(errors, error, 'Loading the heat');
+      replace(head, h('h1', null, 'Heat'));
+    }
+  }
+
+  function approvedVersion(spec: Spec | undefined): SpecVersion | null {
+    if (!spec) return null;
+    return spec.versions.find((v) => v.status === 'APPROVED') ?? spec.versions[spec.versions.length - 1] ?? null;
+  }
+
+  function render(): void {
+    if (!heat) return;
+    const spec = specs.find((s) => s.id === specId);
+    const version = approvedVersion(spec);
+    replace(head, h('h1', null, `Heat ${heat.heatNumber}`), h('span', { class: 'muted' }, `${heat.material === 'STEEL' ? 'steel' : 'ductile iron'}${heat.grade ? `, ${heat.grade}` : ''} · revision ${heat.revision} · source ${heat.source}`));
+    renderChemistry(spec, version);
+    renderDiagram(version);
+    renderBatches();
+    renderRevisions();
+  }
+
+  function renderChemistry(spec: Spec | undefined, version: SpecVersion | null): void {
+    const chooser = select(
+      [{ value: '', label: 'No spec' }, ...specs.map((s) => ({ value: s.id, label: `${s.code} ${s.name}` }))],
+      specId ?? '',
+      (v) => {
+        specId = v || null;
+        const q = new URLSearchParams(route.query);
+        if (specId) q.set('spec', specId); else q.delete('spec');
+        history.replaceState(null, '', `#/heats/${id}${q.toString() ? `?${q}` : ''}`);
+        render();
+      },
+    );
+    chooser.id = 'heat-spec';
+    const checks = checkChemistry(heat!.chemistryWtPct, version?.chemistryLimits ?? null);
+    const conforms = chemistryConforms(checks);
+    const siAl = (heat!.chemistryWtPct['Si'] ?? 0) + (heat!.chemistryWtPct['Al'] ?? 0);
+    const minSiAl = version?.acceptanceCriteria.minSiPlusAlWtPct;
+    const limited = checks.some((c) => c.status !== 'not-limited');
+    replace(
+      chemCard,
+      h('h2', null, 'Chemistry (wt%) against the spec'),
+      h('div', { class: 'field inline' }, h('label', { attrs: { for: 'heat-spec' } }, 'Spec'), chooser, version ? h('span', { class: 'muted small' }, ` v${version.version} ${version.status.toLowerCase()}`) : null),
+      h('table', { class: 'compact chem' },
+        h('thead', null, h('tr', null, ...['Element', 'Heat', 'Limits', 'Check'].map((x) => h('th', { attrs: { scope: 'col' } }, x)))),
+        h('tbody', null, ...checks.map((c) => chemRow(c)))),
+      h('div', { class: `receipt ${!version ? 'none' : conforms ? 'ok' : 'bad'}`, attrs: { role: 'status' } },
+        h('strong', null, 'Receipt check: '),
+        !version ? 'choose a spec to check the chemistry against.' : !limited ? `${spec!.code} limits no element.` : conforms ? `chemistry inside every limit of ${spec!.code} v${version.version}.` : `chemistry NOT inside the limits of ${spec!.code} v${version.version}: ${checks.filter((c) => c.status === 'below' || c.status === 'above' || c.status === 'missing').map((c) => `${c.element} ${c.status}`).join(', ')}.`,
+        minSiAl !== undefined ? h('div', null, `Si + Al = ${fmtWtPct(siAl, 2)} against the minimum of ${fmtWtPct(minSiAl, 2)} that keeps cementite out: `, h('strong', null, siAl >= minSiAl ? 'met' : 'NOT met')) : null,
+        h('div', { class: 'muted small' }, 'Hardenability against the section: not checked here yet (needs the heat advice of the prediction service).'),
+      ),
+    );
+  }
+
+  function chemRow(c: ElementCheck): HTMLElement {
+    const word: Record<ElementCheck['status'], string> = { inside: 'inside', below: 'below min', above: 'above max', missing: 'not stated', 'not-limited': '' };
+    return h('tr', { class: c.status, dataset: { element: c.element } },
+      h('th', { attrs: { scope: 'row' } }, c.element),
+      h('td', { class: 'num' }, c.wtPct !== null ? fmtNum(c.wtPct, 3) : '—'),
+      h('td', null, c.minWtPct !== null || c.maxWtPct !== null ? fmtLimits(c.minWtPct, c.maxWtPct, 'wt%', 3) : ''),
+      h('td', null, c.status === 'inside' ? '✓ inside' : c.status === 'not-limited' ? '' : `✗ ${word[c.status]}`));
+  }
+
+  function renderDiagram(version: SpecVersion | null): void {
+    const carbon = heat!.chemistryWtPct['C'] ?? null;
+    const isIron = heat!.material === 'DUCTILE_IRON';
+    const datasets: Array<Record<string, unknown>> = [];
+    const annotations: Record<string, AnnotationOptions> = {};
+    const notes: Array<Node | string> = [];
+
+    const bs = diagram?.bsC ?? predictions[0]?.p.temperaturesC.bs ?? null;
+    const ms = diagram?.msC ?? predictions[0]?.p.temperaturesC.ms ?? null;
+    const lineData = (pts: Array<{ x: number; y: number }>) => pts.sort((a, b) => a.y - b.y);
+
+    if (diagram) {
+      datasets.push(
+        { label: 'T0', data: lineData(diagram.t0.map((r) => ({ x: r.t0CarbonWtPct, y: r.tempC }))), borderColor: COLORS.t0, backgroundColor: COLORS.t0, showLine: true, pointRadius: 0, borderWidth: 2 },
+        { label: 'T0′ (T0 with stored energy)', data: lineData(diagram.t0.map((r) => ({ x: r.t0PrimeCarbonWtPct, y: r.tempC }))), borderColor: COLORS.t0Prime, backgroundColor: COLORS.t0Prime, showLine: true, pointRadius: 0, borderWidth: 2, borderDash: [6, 4] },
+        { label: 'Ae3', data: diagram.ae3.map((r) => ({ x: r.carbonWtPct, y: r.tempC })).sort((a, b) => a.x - b.x), borderColor: COLORS.ae3, backgroundColor: COLORS.ae3, showLine: true, pointRadius: 0, borderWidth: 2 },
+      );
+    } else {
+      notes.push(
+        diagramProblem === 'missing'
+          ? 'The T0, T0′ and Ae3 curves of this heat are not available from the API yet (GET /v1/heats/:id/diagram). Shown: the values the model computed for loads of this heat, the heat\u2019s carbon and the spec\u2019s bath window.'
+          : `The diagram curves could not be read (${diagramProblem ?? 'unknown problem'}).`,
+      );
+      const t0Points = predictions.filter((x) => x.p.t0.bathTempC !== null && x.p.t0.t0CarbonWtPct !== null).map((x) => ({ x: x.p.t0.t0CarbonWtPct!, y: x.p.t0.bathTempC!, code: x.code }));
+      const t0pPoints = predictions.filter((x) => x.p.t0.bathTempC !== null && x.p.t0.t0PrimeCarbonWtPct !== null).map((x) => ({ x: x.p.t0.t0PrimeCarbonWtPct!, y: x.p.t0.bathTempC!, code: x.code }));
+      if (t0Points.length > 0) datasets.push({ label: 'T0 at the bath temperature of a load', data: t0Points, borderColor: COLORS.t0, backgroundColor: COLORS.t0, pointRadius: 5, pointStyle: 'circle', showLine: false });
+      if (t0pPoints.length > 0) datasets.push({ label: 'T0′ at the bath temperature of a load', data: t0pPoints, borderColor: COLORS.t0Prime, backgroundColor: COLORS.t0Prime, pointRadius: 5, pointStyle: 'triangle', showLine: false });
+      const ae3 = predictions.find((x) => x.p.temperaturesC.ae3 !== null)?.p.temperaturesC.ae3 ?? null;
+      if (ae3 !== null && carbon !== null && !isIron) datasets.push({ label: 'Ae3 of this heat', data: [{ x: carbon, y: ae3 }], borderColor: COLORS.ae3, backgroundColor: COLORS.ae3, pointRadius: 6, pointStyle: 'rectRot', showLine: false });
+      if (predictions.length === 0) notes.push(' No load of this heat has a prediction yet.');
+    }
+    const level = (key: string, value: number | null, label: string, color: string) => {
+      if (value === null) return;
+      annotations[key] = { type: 'line', yMin: value, yMax: value, borderColor: color, borderWidth: 1.5, borderDash: [8, 4], label: { display: true, content: `${label} ${fmtC(value, 0)}`, position: 'end', backgroundColor: 'rgba(16,20,24,0.85)', color } };
+    };
+    level('bs', bs, 'Bs', COLORS.bs);
+    level('ms', ms, 'Ms', COLORS.ms);
+    if (carbon !== null && !isIron) {
+      annotations['carbon'] = { type: 'line', xMin: carbon, xMax: carbon, borderColor: COLORS.text, borderWidth: 1.5, label: { display: true, content: `heat C ${fmtNum(carbon, 2)} wt%`, position: 'start', backgroundColor: 'rgba(16,20,24,0.85)', color: COLORS.text } };
+    }
+    if (isIron) notes.push(' For ductile iron the heat\u2019s total carbon (graphite included) is not the austenite carbon, so it is not drawn.');
+    const bath = diagram?.advisedBath ?? (version ? { minTempC: version.processWindow.bath.minTempC, maxTempC: version.processWindow.bath.maxTempC } : null);
+    if (bath) {
+      annotations['bath'] = {
+        type: 'box', yMin: bath.minTempC, yMax: bath.maxTempC, backgroundColor: COLORS.band, borderColor: COLORS.bandEdge, borderWidth: 1,
+        label: { display: true, content: `${diagram?.advisedBath ? 'advised' : 'spec'} bath window ${bath.minTempC}–${bath.maxTempC} °C`, position: { x: 'end', y: 'center' }, color: COLORS.bandEdge },
+        drawTime: 'beforeDatasetsDraw',
+      };
+    }
+    const ys = [bs, ms, bath?.minTempC, bath?.maxTempC, ...datasets.flatMap((d) => (d['data'] as Array<{ y: number }>).map((p) => p.y))].filter((v): v is number => typeof v === 'number');
+    const xs = [carbon && !isIron ? carbon : null, ...datasets.flatMap((d) => (d['data'] as Array<{ x: number }>).map((p) => p.x))].filter((v): v is number => typeof v === 'number');
+    const xMax = Math.max(1.6, ...xs.map((x) => x * 1.1));
+    const yMin = Math.min(150, ...ys) - 20;
+    const yMax = Math.max(900, ...ys) + 20;
+
+    replace(
+      diagramCard,
+      h('h2', null, 'Temperature (°C) against carbon (wt%)'),
+      chartBox,
+      notes.length > 0 ? h('p', { class: 'muted small chart-note' }, ...notes) : null,
+      h('p', { class: 'muted small' }, 'Bainite stops when the austenite around it reaches the T0′ carbon at the bath temperature: the further T0′ lies right of the heat\u2019s carbon, the more bainite can form. Keep the bath between Ms and Bs with the spec\u2019s margins.'),
+    );
+    const config = {
+      type: 'scatter' as const,
+      data: { datasets: datasets as never },
+      options: {
+        animation: false as const,
+        scales: {
+          x: { type: 'linear' as const, min: 0, max: Math.ceil(xMax * 10) / 10, title: { display: true, text: 'Carbon in austenite (wt%)' } },
+          y: { type: 'linear' as const, min: Math.floor(yMin / 50) * 50, max: Math.ceil(yMax / 50) * 50, title: { display: true, text: 'Temperature (°C)' } },
+        },
+        plugins: {
+          legend: { position: 'top' as const, align: 'end' as const },
+          tooltip: { callbacks: { label: (item: { dataset: { label?: string }; parsed: { x: number | null; y: number | null } }) => `${item.dataset.label ?? ''}: ${fmtNum(item.parsed.x, 3)} wt% at ${fmtNum(item.parsed.y, 0)} °C` } },
+          annotation: { annotations },
+        },
+      },
+    };
+    if (chart) chart.destroy();
+    chart = new Chart(canvas, config as never);
+    chartBox.dataset['drawnAt'] = String(Date.now());
+    chartBox.dataset['source'] = diagram ? 'api-diagram' : 'predictions';
+  }
+
+  function renderBatches(): void {
+    replace(
+      batchesCard,
+      h('h2', null, `Loads of this heat (${batches.length})`),
+      batches.length === 0
+        ? h('p', { class: 'muted' }, 'No loads yet.')
+        : h('table', { class: 'compact' },
+            h('thead', null, h('tr', null, ...['Load', 'Line', 'Spec', 'Status', `Created (${zone})`].map((x) => h('th', { attrs: { scope: 'col' } }, x)))),
+            h('tbody', null, ...batches.map((b) => h('tr', null, h('td', null, link(`/batches/${b.id}`, b.code)), h('td', null, b.line.code), h('td', null, `${b.specVersion.spec.code} v${b.specVersion.version}`), h('td', null, fmtBatchStatus(b.status)), h('td', null, formatDateTime(b.createdAt, zone)))))),
+    );
+  }
+
+  function renderRevisions(): void {
+    const revs = heat!.revisions;
+    replace(
+      revCard,
+      h('h2', null, 'Chemistry revisions'),
+      revs.length === 0
+        ? h('p', { class: 'muted' }, 'No revision history recorded.')
+        : h('table', { class: 'compact' },
+            h('thead', null, h('tr', null, ...['Rev.', `When (${zone})`, 'By', 'Reason', 'Chemistry (wt%)'].map((x) => h('th', { attrs: { scope: 'col' } }, x)))),
+            h('tbody', null, ...revs.map((r) => h('tr', null, h('td', null, String(r.revision)), h('td', { class: 'nowrap' }, formatDateTime(r.changedAt, zone)), h('td', null, r.changedBy), h('td', null, r.reason), h('td', { class: 'small' }, Object.entries(r.chemistryWtPct).map(([k, v]) => `${k} ${v}`).join(', ')))))),
+      facts([['Current revision', String(heat!.revision)], ['Source', heat!.source]]),
+    );
+  }
+
+  void load();
+  return {
+    el,
+    title: 'Heat',
+    dispose() {
+      chart?.destroy();
+    },
+  };
+};
+
