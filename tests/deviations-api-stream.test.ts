@@ -62,9 +62,10 @@ describe('GET /v1/stream', () => {
     const stream = await open(`${streamUrl}?token=${encodeURIComponent(quality.token)}`);
     expect(stream.status).toBe(200);
     await stream.waitFor((m) => m.comment?.startsWith('connected') === true);
-    const event = batchUpdated(crypto.randomUUID(), plant.lineId);
+    const batchId = crypto.randomUUID();
+    const event = batchUpdated(batchId, plant.lineId);
     await publisher.publish(channel, JSON.stringify(event));
-    expect(JSON.parse((await stream.waitFor((m) => m.event === 'batch.updated' && m.data!.includes(event.batchId))).data!)).toEqual(event);
+    expect(JSON.parse((await stream.waitFor((m) => m.event === 'batch.updated' && m.data!.includes(batchId))).data!)).toEqual(event);
   });
 
   it('filters by line and batch, and drops messages that are not live events', async () => {
