@@ -264,6 +264,146 @@ describe('every model round-trips through the generated client', () => {
       }),
     );
 
+
+    // Pyrometry (migration 20261201001000_pyrometry, PW)
+    const equipmentRecord = await prisma.equipmentRecord.create({
+      data: {
+        equipmentId: furnace.id,
+        furnaceClass: 2,
+        instrumentationType: 'D+',
+        satMethod: 'probe',
+        standard: 'AMS2750',
+        revision: 'G',
+        tusRequired: true,
+        customerOverlay: { source: 'Customer spec HT-1 rev A', entries: [] },
+        limitUnit: 'F',
+      },
+    });
+    record('EquipmentRecord', equipmentRecord, await prisma.equipmentRecord.findUniqueOrThrow({ where: { equipmentId: furnace.id } }));
+
+    const sensor = await prisma.sensor.create({
+      data: {
+        serial: 'TC-0001',
+        equipmentId: bath.id,
+        channelId: channel.id,
+        use: 'control',
+        thermocoupleType: 'K',
+        expendable: true,
+        calibrationCertificateRef: 'CERT-1',
+        calibrationPoints: [{ atC: 300, correctionC: -0.4 }, { atC: 400, correctionC: 0.25 }],
+        calibratedAt: t('2026-11-01T08:00:00.001Z'),
+        correctionMethod: 'nearest',
+        installedAt: t('2026-11-02T08:00:00.002Z'),
+        retiredAt: t('2027-02-02T08:00:00.003Z'),
+        priorUses: 12,
+        priorMaxTempC: 385.5,
+        expiresOn: '2027-03-31',
+      },
+    });
+    record('Sensor', sensor, await prisma.sensor.findUniqueOrThrow({ where: { serial: 'TC-0001' } }));
+
+    const instrument = await prisma.instrument.create({
+      data: {
+        serial: 'REC-01',
+        equipmentId: bath.id,
+        channelId: channel.id,
+        use: 'recording',
+        statedAccuracy: { plusMinusC: 0.5, pctOfReading: 0.1 },
+        calibrationCertificateRef: 'ICERT-1',
+        calibrationPoints: [{ atC: 300, correctionC: 0.1 }],
+        calibratedAt: t('2026-11-01T09:00:00.004Z'),
+        correctionMethod: 'linear',
+        installedAt: t('2026-10-01T09:00:00.005Z'),
+        retiredAt: t('2027-10-01T09:00:00.006Z'),
+      },
+    });
+    record('Instrument', instrument, await prisma.instrument.findUniqueOrThrow({ where: { serial: 'REC-01' } }));
+
+    const calibration = await prisma.calibration.create({
+      data: {
+        sensorId: sensor.id,
+        certificateRef: 'CERT-1',
+        calibratedAt: t('2026-11-01T08:00:00.001Z'),
+        points: [{ atC: 300, correctionC: -0.4 }],
+        method: 'nearest',
+        result: { verdict: 'pass' },
+        passed: true,
+        referenceId: 'AMS2750G',
+        recordedBy: 'user:q@plant.example',
+      },
+    });
+    // instrumentId stays null by rule (exactly one subject); written on a second row for the round trip.
+    const instrumentCalibration = await prisma.calibration.create({
+      data: {
+        instrumentId: instrument.id,
+        certificateRef: 'ICERT-1',
+        calibratedAt: t('2026-11-01T09:00:00.004Z'),
+        points: [{ atC: 300, correctionC: 0.1 }],
+        result: { verdict: 'pass' },
+        passed: true,
+        referenceId: 'AMS2750G',
+        recordedBy: 'user:q@plant.example',
+      },
+    });
+    expect(calibration.instrumentId).toBeNull();
+    record('Calibration', { ...instrumentCalibration, sensorId: sensor.id }, { ...(await prisma.calibration.findUniqueOrThrow({ where: { id: instrumentCalibration.id } })), sensorId: sensor.id });
+
+    const accuracyTest = await prisma.accuracyTest.create({
+      data: {
+        equipmentId: bath.id,
+        sensorId: sensor.id,
+        testSensorId: sensor.id,
+        testInstrumentId: instrument.id,
+        testedAt: t('2026-11-15T10:00:00.007Z'),
+        setpointC: 370,
+        instrumentReadingC: 370.4,
+        testSensorReadingC: 369.9,
+        tipDistanceMm: 25.5,
+        input: { setpointC: 370 },
+        result: { verdict: 'pass', differenceC: 0.5 },
+        verdict: 'pass',
+        passed: true,
+        referenceId: 'AMS2750G',
+        recordedBy: 'user:q@plant.example',
+      },
+    });
+    record('AccuracyTest', accuracyTest, await prisma.accuracyTest.findUniqueOrThrow({ where: { id: accuracyTest.id } }));
+
+    const survey = await prisma.uniformitySurvey.create({
+      data: {
+        equipmentId: bath.id,
+        setpointC: 370,
+        startedAt: t('2026-11-16T10:00:00.008Z'),
+        endedAt: t('2026-11-16T11:00:00.009Z'),
+        testInstrumentId: instrument.id,
+        input: { locations: [] },
+        result: { verdict: 'fail' },
+        verdict: 'fail',
+        passed: false,
+        referenceId: 'AMS2750G',
+        recordedBy: 'user:q@plant.example',
+      },
+    });
+    record('UniformitySurvey', survey, await prisma.uniformitySurvey.findUniqueOrThrow({ where: { id: survey.id } }));
+
+    const sensorUse = await prisma.sensorUse.create({ data: { sensorId: sensor.id, batchId: batch.id, at: t('2026-12-01T10:00:10.250Z'), maxTempC: 372.5 } });
+    record('SensorUse', sensorUse, await prisma.sensorUse.findUniqueOrThrow({ where: { sensorId_batchId: { sensorId: sensor.id, batchId: batch.id } } }));
+
+    const trigger = await prisma.suspectTrigger.create({
+      data: {
+        equipmentId: bath.id,
+        kind: 'failed-test',
+        itemKind: 'tus',
+        subjectId: bath.id,
+        at: t('2026-11-16T11:00:00.009Z'),
+        lastPassAt: t('2026-10-16T11:00:00.010Z'),
+        sourceId: survey.id,
+        evidence: { surveyId: survey.id },
+        dedupKey: `failed:${survey.id}`,
+      },
+    });
+    record('SuspectTrigger', trigger, await prisma.suspectTrigger.findUniqueOrThrow({ where: { dedupKey: `failed:${survey.id}` } }));
+
     expect(furnace.kind).toBe('FURNACE');
     for (const [model, created] of written) expect(readBack.get(model), model).toEqual(created);
   });
