@@ -1,5 +1,6 @@
 import { describe, expect, it } from 'vitest';
-import { feCBoundaries, feCEutectoid, gibbsCementite, ironCurieC, pureIronAlphaGammaC, pureIronGammaDeltaC } from './fe-c.js';
+import { ae3C } from '../temperatures.js';
+import { feCBoundaries, feCEutectoid, gibbsCementite, ironCurieC, paraequilibriumAe3C, pureIronAlphaGammaC, pureIronGammaDeltaC } from './fe-c.js';
 
 describe('pure iron from the SGTE unary data (metallurgy.md §8.1)', () => {
   it('α/γ at 912 °C (handbook value; [C] 911.66 °C with the §2 set), ±1 K', () => {
@@ -60,5 +61,24 @@ describe('Fe–C (Fe–Fe3C) diagram, handbook values with the §8.1 tolerances'
   it('cementite energy is the full G of Fe3C vs SER (§9.5 trap): ≈ −120 kJ per Fe3C at 1000 K, not ≈ +100 kJ shifted', () => {
     // Gustafson 1985 (§2.3 [F2]) evaluated by hand: −10745 + 706.04·1000 − 120.6·1000·ln 1000
     expect(gibbsCementite(1000)).toBeCloseTo(-10745 + 706040 - 120600 * Math.log(1000), 6);
+  });
+});
+
+describe('para-equilibrium Ae3 (CALPHAD α/γ at fixed substitutional ratios)', () => {
+  it('Fe–C: is the A3 line – 0.341 wt% C gives 800 °C (§8.1 [C] α/γ at 800 °C), ±0.5 K', () => {
+    expect(Math.abs(paraequilibriumAe3C({ C: 0.341 }) - 800)).toBeLessThanOrEqual(0.5);
+  });
+  it('Fe–C: carbon-free iron gives the pure-iron α/γ point; 0.4 C lies within 10 K of the Andrews Ae3 (handbook A3 ≈ 790 °C)', () => {
+    expect(paraequilibriumAe3C({ C: 0 })).toBeCloseTo(pureIronAlphaGammaC(), 3);
+    expect(Math.abs(paraequilibriumAe3C({ C: 0.4 }) - ae3C({ C: 0.4 }))).toBeLessThan(10);
+  });
+  it('Si raises it, Mn and Ni lower it', () => {
+    const base = paraequilibriumAe3C({ C: 0.4 });
+    expect(paraequilibriumAe3C({ C: 0.4, Si: 1.5 })).toBeGreaterThan(base);
+    expect(paraequilibriumAe3C({ C: 0.4, Mn: 1.5 })).toBeLessThan(base);
+    expect(paraequilibriumAe3C({ C: 0.4, Ni: 1.5 })).toBeLessThan(base);
+  });
+  it('rejects a non-finite temperature in feCBoundaries', () => {
+    expect(() => feCBoundaries(Number.NaN)).toThrow(RangeError);
   });
 });

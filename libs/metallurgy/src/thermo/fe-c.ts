@@ -9,7 +9,8 @@
  *   γ/gr: μ_C^γ(u) = GHSERCC                      (graphite is pure C)
  * Speed is irrelevant here (used for reference diagrams and tests), robustness is not.
  */
-import { carbonPotential, latticePotential, solutionAt, xFromU, type SolutionAtT } from './solution.js';
+import { carbonMoleFractionFromWtPct, type ChemistryWtPct } from '../chemistry.js';
+import { carbonPotential, latticePotential, solutionAt, thermoSiteFractions, uFromX, xFromU, type SolutionAtT } from './solution.js';
 import { ghserC } from './unaries.js';
 import { magneticGibbs } from './magnetic.js';
 import { fccFeMinusBcc } from './unaries.js';
@@ -27,8 +28,8 @@ function wtPctFromU(u: number): number {
   return (100 * u * M_C) / (u * M_C + M_FE);
 }
 
-function phase(structure: 'fcc' | 'bcc', tempK: number): SolutionAtT {
-  return solutionAt(structure, PURE_FE, tempK);
+function phase(structure: 'fcc' | 'bcc', tempK: number, y: Float64Array = PURE_FE): SolutionAtT {
+  return solutionAt(structure, y, tempK);
 }
 
 /** u of a phase at a given carbon potential (μ_C increases monotonically with u in a stable solution). */
@@ -60,9 +61,9 @@ function bisect(f: (v: number) => number, lo: number, hi: number, tol: number): 
 }
 
 /** α/γ two-phase equilibrium: u of ferrite and austenite, or null if none exists at this temperature. */
-function ferriteAustenite(tempK: number): { uAlpha: number; uGamma: number } | null {
-  const a = phase('bcc', tempK);
-  const g = phase('fcc', tempK);
+function ferriteAustenite(tempK: number, y: Float64Array = PURE_FE): { uAlpha: number; uGamma: number } | null {
+  const a = phase('bcc', tempK, y);
+  const g = phase('fcc', tempK, y);
   // Ω^γ − Ω^α as a function of μ_C decreases (dΩ/dμ_C = −u and u_γ > u_α).
   const diff = (muC: number) => latticePotential(g, uAtCarbonPotential(g, muC)) - latticePotential(a, uAtCarbonPotential(a, muC));
   // μ_C range: from very dilute to well beyond graphite saturation.
@@ -114,6 +115,7 @@ export interface FeCBoundaries {
  */
 export function feCBoundaries(tempC: number): FeCBoundaries {
   const T = tempC + 273.15;
+  if (!Number.isFinite(tempC) || tempC < 0) throw new RangeError(`feCBoundaries: tempC must be a finite temperature ≥ 0 °C; got ${tempC}`);
   const ag = T < 1184.8 ? ferriteAustenite(T) : null;
   const g = phase('fcc', T);
   const a = phase('bcc', T);
@@ -179,4 +181,41 @@ export function feCEutectoid(): { tempC: number; austeniteCarbonWtPct: number; f
     austeniteCarbonMoleFraction: xFromU(ag.uGamma),
     ferriteCarbonMoleFraction: xFromU(ag.uAlpha),
   };
+}
+
+/**
+ * Para-equilibrium Ae3 of an alloy, °C: the temperature at which austenite of the bulk composition is in
+ * equilibrium with ferrite of the same substitutional ratios (only carbon partitions) – the §2 CALPHAD α/γ boundary
+ * at fixed y_i, recommended over the empirical formulas for high-Si steels (§1.1). For Fe–C it is the A3 line.
+ * Para-equilibrium lies below the full (ortho) equilibrium Ae3 for Mn/Ni steels: it is the upper limit for
+ * ferrite that grows without substitutional partitioning (for 4340 it is ≈ 55 K below the Andrews value).
+ * Solutes without parameters count as Fe. Cementite is not considered: above the eutectoid carbon the result is the
+ * metastable α/γ extension below A1, so compare it with Ae1. Returns NaN when no α/γ boundary crosses the bulk
+ * carbon between 500 °C and the alloy's carbon-free α/γ temperature.
+ */
+export function paraequilibriumAe3C(chem: ChemistryWtPct): number {
+  const y = thermoSiteFractions(chem);
+  const uBulk = uFromX(carbonMoleFractionFromWtPct(chem.C ?? 0, chem));
+  const carbonFree = (T: number) => gibbsOfPhaseAt('fcc', y, T) - gibbsOfPhaseAt('bcc', y, T);
+  // Carbon-free α/γ temperature of the alloy (upper end of the two-phase field): the first crossing above 500 °C
+  // (ferritisers such as Si close the γ loop, so fcc − bcc may turn negative again at high temperature).
+  let tTop = Number.NaN;
+  for (let T = 773.15; T < 1700; T += 10) {
+    if (carbonFree(T) > 0 && carbonFree(T + 10) <= 0) {
+      tTop = bisect(carbonFree, T, T + 10, 1e-6);
+      break;
+    }
+  }
+  if (Number.isNaN(tTop)) return Number.NaN;
+  if (uBulk <= 0) return tTop - 273.15;
+  const g = (T: number) => {
+    const ag = ferriteAustenite(T, y);
+    return (ag ? ag.uGamma : 0) - uBulk;
+  };
+  const T = bisect(g, 773.15, tTop - 1e-6, 1e-4);
+  return Number.isNaN(T) ? Number.NaN : T - 273.15;
+}
+
+function gibbsOfPhaseAt(structure: 'fcc' | 'bcc', y: Float64Array, T: number): number {
+  return latticePotential(phase(structure, T, y), 1e-14);
 }

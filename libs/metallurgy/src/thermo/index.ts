@@ -22,6 +22,7 @@ export {
   pureIronGammaDeltaC,
   ironCurieC,
   pureIronFccMinusBcc,
+  paraequilibriumAe3C,
 } from './fe-c.js';
 export { magneticGibbs } from './magnetic.js';
 export { ghserFe, ghserC, fccFeMinusBcc } from './unaries.js';

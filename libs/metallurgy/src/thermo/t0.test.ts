@@ -196,6 +196,16 @@ describe('properties that must hold whatever the coefficients', () => {
     expect(t0PrimeCarbonWtPct({ C: 0.4 }, 880)).toBe(0);
     expect(t0CarbonWtPct({ C: 0.4 }, 950)).toBe(0);
   });
+  it('stays finite and physical down to room temperature (T0′ ≈ 2 wt% at 20 °C for Fe–C)', () => {
+    const at20 = t0PrimeCarbonWtPct({ C: 0.4 }, 20);
+    expect(at20).toBeGreaterThan(1.5);
+    expect(at20).toBeLessThan(2.5);
+  });
+  it('rejects a non-finite temperature or stored energy instead of returning a number', () => {
+    expect(() => t0PrimeCarbonWtPct({ C: 0.4 }, Number.NaN)).toThrow(RangeError);
+    expect(() => t0CarbonWtPct({ C: 0.4 }, -300)).toThrow(RangeError);
+    expect(() => t0PrimeCarbonWtPct({ C: 0.4 }, 350, { storedEnergyJPerMol: Number.NaN })).toThrow(RangeError);
+  });
   it('the root satisfies ΔG_m = −E to < 1e−4 J/mol', () => {
     const chem = NAMED[2][1];
     const x = xT0p(chem, 320);

@@ -56,6 +56,7 @@ export interface DrivingForce {
 }
 
 export function drivingForce(chem: ChemistryWtPct, tempK: number, description: ThermoDescription = 'calphad'): DrivingForce {
+  assertTemperatureK(tempK);
   const y = thermoSiteFractions(chem);
   return drivingForceForSiteFractions(y, tempK, description);
 }
@@ -84,6 +85,10 @@ export function drivingForceForSiteFractions(
       return (gibbsAtSiteFraction(bcc, u / 3) - gibbsAtSiteFraction(fcc, u) + shiftPerMoleSubst) / (1 + u);
     },
   };
+}
+
+function assertTemperatureK(tempK: number): void {
+  if (!Number.isFinite(tempK) || tempK <= 0) throw new RangeError(`T0: temperature must be finite and above absolute zero; got ${tempK - 273.15} °C`);
 }
 
 const X_LO = 1e-9;
@@ -121,7 +126,9 @@ function solveCarbon(df: DrivingForce, storedEnergy: number): number {
 
 /** T0 carbon as a MOLE FRACTION (substitutional ratios of chem; its own C is irrelevant). */
 export function t0MoleFraction(chem: ChemistryWtPct, tempC: number, opts: { storedEnergyJPerMol?: number; description?: ThermoDescription } = {}): number {
-  return solveCarbon(drivingForce(chem, tempC + 273.15, opts.description ?? 'calphad'), opts.storedEnergyJPerMol ?? 0);
+  const storedEnergy = opts.storedEnergyJPerMol ?? 0;
+  if (!Number.isFinite(storedEnergy)) throw new RangeError(`T0: storedEnergyJPerMol must be finite; got ${storedEnergy}`);
+  return solveCarbon(drivingForce(chem, tempC + 273.15, opts.description ?? 'calphad'), storedEnergy);
 }
 
 /** T0 carbon, wt%, at tempC (°C). Returns 0 where carbon-free ferrite is not favoured (above ≈ 912 °C for Fe–C). */
@@ -144,6 +151,8 @@ export function t0Curve(
   opts: { storedEnergyJPerMol?: number; description?: ThermoDescription } = {},
 ): Array<{ tempC: number; t0CarbonWtPct: number; t0PrimeCarbonWtPct: number }> {
   if (!(stepC > 0)) throw new RangeError(`t0Curve: stepC must be > 0; got ${stepC}`);
+  assertTemperatureK(fromC + 273.15);
+  assertTemperatureK(toC + 273.15);
   const storedEnergy = opts.storedEnergyJPerMol ?? BAINITE_STORED_ENERGY_J_PER_MOL;
   const y = thermoSiteFractions(chem);
   const out: Array<{ tempC: number; t0CarbonWtPct: number; t0PrimeCarbonWtPct: number }> = [];
