@@ -6,7 +6,7 @@
  * parameter name, which in the TDB files is alphabetical: CR,FE → (y_Cr − y_Fe); AL,FE → (y_Al − y_Fe);
  * FE,MN; FE,MO; FE,NI; FE,SI; MN,SI. The `pair` arrays below are written in exactly that order.
  */
-import { fccFeMinusBcc, gbccMn, gfccFe, gfccMn, ghserAl, ghserC, ghserCr, ghserFe, ghserMn, ghserMo, ghserNi, ghserSi } from './unaries.js';
+import { fccFeMinusBcc, ghserFe, type UnaryTable } from './unaries.js';
 
 /** Substitutional species of the CALPHAD description. Index order is used everywhere in the thermo code. */
 export const SPECIES = ['Fe', 'Mn', 'Si', 'Ni', 'Cr', 'Mo', 'Al'] as const;
@@ -17,7 +17,8 @@ const I: Record<Species, number> = { Fe: 0, Mn: 1, Si: 2, Ni: 3, Cr: 4, Mo: 5, A
 /** Fe–Si–C ternary choice (§2.4): option B (Miettinen 1998) is the default, option A (Lacaze & Sundman 1991) the alternative. */
 export type FeSiCOption = 'A' | 'B';
 
-type TFn = (T: number) => number;
+/** A temperature function; `u` holds the SGTE unaries at T (computed once per temperature). */
+type TFn = (T: number, u: UnaryTable) => number;
 const zero: TFn = () => 0;
 const lin = (a: number, b = 0): TFn => (T) => a + b * T;
 
@@ -72,8 +73,8 @@ function fccParameters(siOption: FeSiCOption): PhaseParameters {
     endMembers: {
       // Fe: lattice stability §2.2 (SGTE); Fe:C Gustafson 1985 §2.3 [F2]; TC −201, β −2.1 for Fe:Va and Fe:C.
       Fe: {
-        gVa: gfccFe,
-        gC: (T) => gfccFe(T) + ghserC(T) + 77207 - 15.877 * T,
+        gVa: (_T, u) => u.fccFe,
+        gC: (T, u) => u.fccFe + u.c + 77207 - 15.877 * T,
         lCVa: lin(-34671),
         tcVa: -201,
         betaVa: -2.1,
@@ -83,8 +84,8 @@ function fccParameters(siOption: FeSiCOption): PhaseParameters {
       // Mn: fcc Mn §2.2 (SGTE) with TC −1620, β −1.86; Mn:C and L(Mn:C,Va) Huang 1990 §2.4 [F2]. The Mn:C magnetic
       // parameters are taken equal to Mn:Va (as for Fe:C).
       Mn: {
-        gVa: gfccMn,
-        gC: (T) => ghserMn(T) + ghserC(T) + 502 + 15.261 * T,
+        gVa: (_T, u) => u.fccMn,
+        gC: (T, u) => u.mn + u.c + 502 + 15.261 * T,
         lCVa: lin(-43433),
         tcVa: -1620,
         betaVa: -1.86,
@@ -93,8 +94,8 @@ function fccParameters(siOption: FeSiCOption): PhaseParameters {
       },
       // Si: fcc Si = GHSERSI + 51000 − 21.8T §2.2; Si:C Lacaze & Sundman 1991 §2.4 [F2], L(Si:C,Va) = 0.
       Si: {
-        gVa: (T) => ghserSi(T) + 51000 - 21.8 * T,
-        gC: (T) => ghserSi(T) + ghserC(T) - 20510 + 38.7 * T,
+        gVa: (T, u) => u.si + 51000 - 21.8 * T,
+        gC: (T, u) => u.si + u.c - 20510 + 38.7 * T,
         lCVa: zero,
         tcVa: 0,
         betaVa: 0,
@@ -103,8 +104,8 @@ function fccParameters(siOption: FeSiCOption): PhaseParameters {
       },
       // Ni: GHSERNI, TC 633, β 0.52 §2.2; Ni:C and L(Ni:C,Va) Gabriel, Gustafson & Ansara 1987 §2.4 [F2].
       Ni: {
-        gVa: ghserNi,
-        gC: (T) => ghserNi(T) + ghserC(T) + 62000 - 7.6 * T,
+        gVa: (_T, u) => u.ni,
+        gC: (T, u) => u.ni + u.c + 62000 - 7.6 * T,
         lCVa: lin(-14902, 7.5),
         tcVa: 633,
         betaVa: 0.52,
@@ -113,8 +114,8 @@ function fccParameters(siOption: FeSiCOption): PhaseParameters {
       },
       // Cr: fcc Cr = GHSERCR + 7284 + 0.163T, TC −1109, β −2.46 §2.2; Cr:C, L(Cr:C,Va) Andersson 1987/88 §2.4 [F2].
       Cr: {
-        gVa: (T) => ghserCr(T) + 7284 + 0.163 * T,
-        gC: (T) => ghserCr(T) + ghserC(T) + 1200 - 1.94 * T,
+        gVa: (T, u) => u.cr + 7284 + 0.163 * T,
+        gC: (T, u) => u.cr + u.c + 1200 - 1.94 * T,
         lCVa: lin(-11977, 6.8194),
         tcVa: -1109,
         betaVa: -2.46,
@@ -123,8 +124,8 @@ function fccParameters(siOption: FeSiCOption): PhaseParameters {
       },
       // Mo: fcc Mo = GHSERMO + 15200 + 0.63T §2.2; Mo:C, L(Mo:C,Va) Andersson 1988 §2.4 [F2].
       Mo: {
-        gVa: (T) => ghserMo(T) + 15200 + 0.63 * T,
-        gC: (T) => ghserMo(T) + ghserC(T) - 7500 - 8.3 * T - 750000 / T,
+        gVa: (T, u) => u.mo + 15200 + 0.63 * T,
+        gC: (T, u) => u.mo + u.c - 7500 - 8.3 * T - 750000 / T,
         lCVa: lin(-41300),
         tcVa: 0,
         betaVa: 0,
@@ -135,8 +136,8 @@ function fccParameters(siOption: FeSiCOption): PhaseParameters {
       // published value): Al:C = GHSERAL + GHSERCC + (77207 − 15.877T), i.e. Al adds carbon to fcc as Fe does, and
       // L(Al:C,Va) = 0. The fcc Fe–Al–C ternary is missing, so T0 for Al-bearing steels is incomplete (warned).
       Al: {
-        gVa: ghserAl,
-        gC: (T) => ghserAl(T) + ghserC(T) + 77207 - 15.877 * T,
+        gVa: (_T, u) => u.al,
+        gC: (T, u) => u.al + u.c + 77207 - 15.877 * T,
         lCVa: zero,
         tcVa: 0,
         betaVa: 0,
@@ -197,8 +198,8 @@ function bccParameters(siOption: FeSiCOption): PhaseParameters {
       // Fe: GHSERFE, TC 1043, β 2.22 §2.2; Fe:C = GHSERFE + 3GHSERCC + 322050 + 75.667T, L(Fe:C,Va) = −190T,
       // Gustafson 1985 §2.3 [F2].
       Fe: {
-        gVa: ghserFe,
-        gC: (T) => ghserFe(T) + 3 * ghserC(T) + 322050 + 75.667 * T,
+        gVa: (_T, u) => u.fe,
+        gC: (T, u) => u.fe + 3 * u.c + 322050 + 75.667 * T,
         lCVa: lin(0, -190),
         tcVa: 1043,
         betaVa: 2.22,
@@ -207,8 +208,8 @@ function bccParameters(siOption: FeSiCOption): PhaseParameters {
       },
       // Mn: bcc Mn §2.2, TC −580, β −0.27; Mn:C = GHSERMN + 3GHSERCC + 10000 + 30T, Huang 1990 §2.4 [F2].
       Mn: {
-        gVa: gbccMn,
-        gC: (T) => ghserMn(T) + 3 * ghserC(T) + 10000 + 30 * T,
+        gVa: (_T, u) => u.bccMn,
+        gC: (T, u) => u.mn + 3 * u.c + 10000 + 30 * T,
         lCVa: zero,
         tcVa: -580,
         betaVa: -0.27,
@@ -218,8 +219,8 @@ function bccParameters(siOption: FeSiCOption): PhaseParameters {
       // Si: bcc Si = GHSERSI + 47000 − 22.5T §2.2; Si:C Lacaze & Sundman 1991 §2.4 [F2] as printed there
       // (note its −75.667T where Fe:C has +75.667T; the term is multiplied by y_Si·y_C and is negligible either way).
       Si: {
-        gVa: (T) => ghserSi(T) + 47000 - 22.5 * T,
-        gC: (T) => ghserSi(T) + 47000 - 22.5 * T + 3 * ghserC(T) + 322050 - 75.667 * T,
+        gVa: (T, u) => u.si + 47000 - 22.5 * T,
+        gC: (T, u) => u.si + 47000 - 22.5 * T + 3 * u.c + 322050 - 75.667 * T,
         lCVa: zero,
         tcVa: 0,
         betaVa: 0,
@@ -228,8 +229,8 @@ function bccParameters(siOption: FeSiCOption): PhaseParameters {
       },
       // Ni: bcc Ni = GHSERNI + 8715.084 − 3.556T, TC 575, β 0.85 §2.2; Ni:C = GHSERNI + 3GHSERCC + 270000 §2.4 [F2].
       Ni: {
-        gVa: (T) => ghserNi(T) + 8715.084 - 3.556 * T,
-        gC: (T) => ghserNi(T) + 3 * ghserC(T) + 270000,
+        gVa: (T, u) => u.ni + 8715.084 - 3.556 * T,
+        gC: (T, u) => u.ni + 3 * u.c + 270000,
         lCVa: zero,
         tcVa: 575,
         betaVa: 0.85,
@@ -238,8 +239,8 @@ function bccParameters(siOption: FeSiCOption): PhaseParameters {
       },
       // Cr: GHSERCR, TC −311.5, β −0.008 §2.2; Cr:C = GHSERCR + 3GHSERCC + 416000, L(Cr:C,Va) = −190T §2.4 [F2].
       Cr: {
-        gVa: ghserCr,
-        gC: (T) => ghserCr(T) + 3 * ghserC(T) + 416000,
+        gVa: (_T, u) => u.cr,
+        gC: (T, u) => u.cr + 3 * u.c + 416000,
         lCVa: lin(0, -190),
         tcVa: -311.5,
         betaVa: -0.008,
@@ -248,8 +249,8 @@ function bccParameters(siOption: FeSiCOption): PhaseParameters {
       },
       // Mo: GHSERMO §2.2; Mo:C = GHSERMO + 3GHSERCC + 331000 − 75T, Andersson 1988 §2.4 [F2].
       Mo: {
-        gVa: ghserMo,
-        gC: (T) => ghserMo(T) + 3 * ghserC(T) + 331000 - 75 * T,
+        gVa: (_T, u) => u.mo,
+        gC: (T, u) => u.mo + 3 * u.c + 331000 - 75 * T,
         lCVa: zero,
         tcVa: 0,
         betaVa: 0,
@@ -259,8 +260,8 @@ function bccParameters(siOption: FeSiCOption): PhaseParameters {
       // Al: bcc Al = GHSERAL + 10083 − 4.813T §2.2; Al:C = GHSERAL + 3GHSERCC + 100000 + 80T,
       // L(Al:C,Va) = 130000 + 14T, Connétable et al. 2008 §2.4 [F2].
       Al: {
-        gVa: (T) => ghserAl(T) + 10083 - 4.813 * T,
-        gC: (T) => ghserAl(T) + 3 * ghserC(T) + 100000 + 80 * T,
+        gVa: (T, u) => u.al + 10083 - 4.813 * T,
+        gC: (T, u) => u.al + 3 * u.c + 100000 + 80 * T,
         lCVa: lin(130000, 14),
         tcVa: 0,
         betaVa: 0,

@@ -9,6 +9,7 @@
 import { ELEMENTS, MOLAR_MASS_G_PER_MOL, type ChemistryWtPct } from '../chemistry.js';
 import { MAGNETIC, R_J_PER_MOL_K, magneticF, type MagneticStructure } from './magnetic.js';
 import { NSPECIES, SPECIES, SPECIES_INDEX, phaseParameters, type FeSiCOption, type Species } from './parameters.js';
+import { unaryTable, type UnaryTable } from './unaries.js';
 
 /**
  * Substitutional site fractions over the species of the CALPHAD description (order of SPECIES). Elements without
@@ -58,9 +59,16 @@ export interface SolutionAtT {
   betaC: number;
 }
 
-export function solutionAt(phase: 'fcc' | 'bcc', y: ArrayLike<number>, tempK: number, siOption: FeSiCOption = 'B'): SolutionAtT {
+export function solutionAt(
+  phase: 'fcc' | 'bcc',
+  y: ArrayLike<number>,
+  tempK: number,
+  siOption: FeSiCOption = 'B',
+  unaries: UnaryTable = unaryTable(tempK),
+): SolutionAtT {
   const p = phaseParameters(phase, siOption);
   const T = tempK;
+  const u = unaries;
   let gVa = 0;
   let gC = 0;
   let lCVa = 0;
@@ -73,9 +81,9 @@ export function solutionAt(phase: 'fcc' | 'bcc', y: ArrayLike<number>, tempK: nu
     const yi = y[i];
     if (yi <= 0) continue;
     const em = p.endMembers[SPECIES[i]];
-    gVa += yi * em.gVa(T);
-    gC += yi * em.gC(T);
-    lCVa += yi * em.lCVa(T);
+    gVa += yi * em.gVa(T, u);
+    gC += yi * em.gC(T, u);
+    lCVa += yi * em.lCVa(T, u);
     tcVa += yi * em.tcVa;
     tcC += yi * em.tcC;
     betaVa += yi * em.betaVa;
@@ -91,7 +99,7 @@ export function solutionAt(phase: 'fcc' | 'bcc', y: ArrayLike<number>, tempK: nu
     let g = 0;
     let dn = 1;
     for (const Ln of b.g) {
-      g += Ln(T) * dn;
+      g += Ln(T, u) * dn;
       dn *= d;
     }
     let tc = 0;
@@ -123,7 +131,7 @@ export function solutionAt(phase: 'fcc' | 'bcc', y: ArrayLike<number>, tempK: nu
   for (const t of p.ternaries) {
     const yyy = y[SPECIES_INDEX[t.species[0]]] * y[SPECIES_INDEX[t.species[1]]] * y[SPECIES_INDEX[t.species[2]]];
     if (yyy === 0) continue;
-    gVa += yyy * t.g(T);
+    gVa += yyy * t.g(T, u);
     tcVa += yyy * (t.tc ?? 0);
   }
   return {
@@ -175,6 +183,17 @@ function magneticAndDerivative(s: SolutionAtT, yC: number): { g: number; dg: num
   return { g: RT * lnb * f, dg: RT * ((dbeta / (beta + 1)) * f + lnb * df * dtau) };
 }
 
+/** G_mag only (no derivative) – the hot path of the T0 root finder. */
+function magneticOnly(s: SolutionAtT, yC: number): number {
+  const afm = MAGNETIC[s.magnetic].afm;
+  let tc = s.tcVa + yC * (s.tcC - s.tcVa);
+  if (tc < 0) tc /= afm;
+  let beta = s.betaVa + yC * (s.betaC - s.betaVa);
+  if (beta < 0) beta /= afm;
+  if (tc <= 0 || beta <= 0) return 0;
+  return R_J_PER_MOL_K * s.tempK * Math.log(beta + 1) * magneticF(s.tempK / tc, s.magnetic);
+}
+
 function xlnx(v: number): number {
   return v > 0 ? v * Math.log(v) : 0;
 }
@@ -188,7 +207,7 @@ export function gibbsAtSiteFraction(s: SolutionAtT, yC: number): number {
     yC * s.gC +
     RT * s.sites * (xlnx(yC) + xlnx(1 - yC)) +
     yC * (1 - yC) * s.lCVa +
-    magneticAndDerivative(s, yC).g
+    magneticOnly(s, yC)
   );
 }
 

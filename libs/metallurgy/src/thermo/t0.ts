@@ -13,7 +13,7 @@ import { carbonWtPctFromMoleFraction, carbonMoleFractionFromWtPct, type Chemistr
 import { R_J_PER_MOL_K, magneticGibbs } from './magnetic.js';
 import { SPECIES_INDEX, type FeSiCOption } from './parameters.js';
 import { gibbsAtSiteFraction, solutionAt, thermoSiteFractions, uFromX, type SolutionAtT } from './solution.js';
-import { fccFeMinusBcc } from './unaries.js';
+import { fccFeMinusBcc, unaryTable } from './unaries.js';
 
 /** Stored energy of bainitic ferrite, J/mol (Bhadeshia & Edmonds 1980; metallurgy.md §2.5). */
 export const BAINITE_STORED_ENERGY_J_PER_MOL = 400;
@@ -69,8 +69,9 @@ export function drivingForceForSiteFractions(
   altSiOption: FeSiCOption = 'A',
 ): DrivingForce {
   const siOption = description === 'alt' ? altSiOption : 'B';
-  const fcc: SolutionAtT = solutionAt('fcc', y, tempK, siOption);
-  const bcc: SolutionAtT = solutionAt('bcc', y, tempK, siOption);
+  const unaries = unaryTable(tempK);
+  const fcc: SolutionAtT = solutionAt('fcc', y, tempK, siOption, unaries);
+  const bcc: SolutionAtT = solutionAt('bcc', y, tempK, siOption, unaries);
   let shiftPerMoleSubst = 0;
   if (description === 'alt') {
     let dT = 0;

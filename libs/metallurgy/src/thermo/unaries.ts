@@ -76,3 +76,35 @@ export function ghserAl(T: number): number {
   if (T < 933.47) return -11276.24 + 223.048446 * T - 38.5844296 * T * lnT + 0.018531982 * T * T - 5.764227e-6 * T ** 3 + 74092 / T;
   return -11278.378 + 188.684153 * T - 31.748192 * T * lnT - 1.230524e28 * T ** -9;
 }
+
+/** All unaries at one temperature, computed once and shared by the fcc and bcc parameter sets. */
+export interface UnaryTable {
+  fe: number;
+  fccFe: number;
+  c: number;
+  mn: number;
+  fccMn: number;
+  bccMn: number;
+  si: number;
+  ni: number;
+  cr: number;
+  mo: number;
+  al: number;
+}
+
+export function unaryTable(T: number): UnaryTable {
+  const fe = ghserFe(T);
+  return {
+    fe,
+    fccFe: fe + fccFeMinusBcc(T),
+    c: ghserC(T),
+    mn: ghserMn(T),
+    fccMn: gfccMn(T),
+    bccMn: gbccMn(T),
+    si: ghserSi(T),
+    ni: ghserNi(T),
+    cr: ghserCr(T),
+    mo: ghserMo(T),
+    al: ghserAl(T),
+  };
+}
