@@ -5,6 +5,8 @@ export {
   type ThermoDescription,
   type DrivingForce,
   drivingForce,
+  drivingForceForSiteFractions,
+  type AltShiftElement,
   t0MoleFraction,
   t0CarbonWtPct,
   t0PrimeCarbonWtPct,

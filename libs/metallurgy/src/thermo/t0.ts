@@ -29,8 +29,9 @@ export const BAINITE_STORED_ENERGY_J_PER_MOL = 400;
  *   where ΔG°_Fe = G_bcc − G_fcc of pure iron (magnetism included) and k_i is in K per at.% of the substitutional
  *   lattice (a positive k stabilises austenite, lowering T0). Option A gives the other sign of the small Si effect
  *   (§9.2). The k_i are fitted [C] to the second column of the §8.2 "named steels" table (15 values: five steels at
- *   300/350/400 °C), which is the T0′ of the stronger-Mn published description (its 350 °C value for
- *   Fe–0.43C–2.12Si–3Mn, x = 0.0243 ≈ 0.54 wt%, is the one quoted in the §8.2 lever-rule example); see
+ *   300/350/400 °C). That column is headed "x_T0′" there, but we read it as the T0′ of the stronger-Mn published
+ *   description: its first column equals our CALPHAD T0′ exactly, and its 350 °C value for Fe–0.43C–2.12Si–3Mn,
+ *   x = 0.0243 ≈ 0.54 wt%, is the one the §8.2 lever-rule example attributes to that description; see
  *   thermo/t0.test.ts. Fit: rms 0.0010, max 0.0019 in x_C. Mo is tied to Cr (too few Mo data to fit it alone).
  *   Use 'alt' only to sample the model spread in the uncertainty band, never as the answer.
  */
