@@ -229,7 +229,7 @@ function buildModel(setup: BatchSetup, key: string): BatchModel {
       MODEL_ERRORS.carbonInBainiticFerriteMeanWtPct + MODEL_ERRORS.carbonInBainiticFerriteSdWtPct * z(D + 5, k),
     );
     m.heatTransferZ[k] = z(D + 6, k);
-    const fpError = MODEL_ERRORS.ferritePearliteLnTimeSd * z(D + 7, k);
+    const fpError = MODEL_ERRORS.ferritePearliteLnTimeSd * z(D + 7, k) + Math.log(setup.calibration?.ferritePearliteTimeFactor ?? 1);
     m.ferriteLnFactor[k] = Math.log(nominalFc / liFerriteFactor(eff)) - fpError;
     m.pearliteLnFactor[k] = Math.log(nominalPc / liPearliteFactor(eff)) - fpError;
     const a1 = ae1C(eff);

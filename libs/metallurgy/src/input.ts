@@ -230,11 +230,13 @@ function parseUncertainty(c: Checker, raw: unknown): UncertaintySettings | undef
 }
 
 function parseCalibration(c: Checker, raw: unknown): Calibration | undefined {
-  const o = c.object(raw, 'calibration', ['bainiteTimeFactor', 't0PrimeBiasWtPct', 'bands']);
+  const o = c.object(raw, 'calibration', ['bainiteTimeFactor', 'ferritePearliteTimeFactor', 't0PrimeBiasWtPct', 'bands']);
   if (!o) return undefined;
   const out: Calibration = {};
   const f = c.number(o, 'bainiteTimeFactor', 'calibration', { min: 0, max: 1000, exclusiveMin: true, optional: true });
   if (f !== undefined) out.bainiteTimeFactor = f;
+  const fp = c.number(o, 'ferritePearliteTimeFactor', 'calibration', { min: 0, max: 1e6, exclusiveMin: true, optional: true });
+  if (fp !== undefined) out.ferritePearliteTimeFactor = fp;
   const b = c.number(o, 't0PrimeBiasWtPct', 'calibration', { min: -1, max: 1, optional: true });
   if (b !== undefined) out.t0PrimeBiasWtPct = b;
   if (o.bands !== undefined) {

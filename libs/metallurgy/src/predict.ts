@@ -442,6 +442,12 @@ function collectWarnings(w: string[], c: WarningContext): void {
   // Model validity.
   if (isIron) {
     w.push('bainite: Li 1998 kinetics are calibrated on low-alloy steels, not cast iron: time to 95 % is a screening estimate (wide band); calibrate bainiteTimeFactor per product');
+    w.push(
+      'quench: Li 1998 ferrite/pearlite rates are fitted to low-alloy steels (no Cu term, no graphite): for ductile iron the upper-products prediction is a screening estimate; calibrate ferritePearliteTimeFactor per product',
+    );
+    w.push(
+      't0: ADI austenite is reported to reach ≈1.8–2.2 wt% C in Stage I (metallurgy.md §4.2), above T0′: the T0′ ceiling understates the ausferrite; calibrate t0PrimeBiasWtPct per product against XRD',
+    );
     const at = setup.austenitize.tempC;
     if (at < 850 || at > 950) w.push(`austenitize.tempC: ${at} °C is outside 850–950 °C where the Voigt–Loper matrix carbon is fitted`);
     if (c.endS > 3 * 3600) w.push('bainite: Stage II (carbide precipitation from the high-carbon austenite) is not modelled; long holds may lose retained austenite');
@@ -485,6 +491,9 @@ function collectWarnings(w: string[], c: WarningContext): void {
   }
   if (c.t0Bias !== 0) w.push(`t0: T0′ includes a per-product calibration bias of ${c.t0Bias} wt%`);
   if (setup.calibration?.bainiteTimeFactor !== undefined) w.push(`bainite: Li bainite times are scaled by the per-product calibration factor ${setup.calibration.bainiteTimeFactor}`);
+  if (setup.calibration?.ferritePearliteTimeFactor !== undefined) {
+    w.push(`quench: Li ferrite/pearlite times are scaled by the per-product calibration factor ${setup.calibration.ferritePearliteTimeFactor}`);
+  }
   const calibrated = Object.keys(c.bandCalibration);
   if (calibrated.length) w.push(`bands: per-product calibration (bias/spread) applied to ${calibrated.join(', ')}`);
 }

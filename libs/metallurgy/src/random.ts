@@ -49,10 +49,7 @@ export class SeededRandom {
   }
 }
 
-/**
- * Inverse of the standard normal CDF. Acklam's rational approximation (relative error < 1.15e−9), refined by one
- * Halley step on erfc, which brings it to double precision for the quantiles the ensemble uses.
- */
+/** Inverse of the standard normal CDF: Acklam's rational approximation (relative error < 1.15e−9). */
 export function inverseNormalCdf(p: number): number {
   if (!(p > 0 && p < 1)) {
     if (p === 0) return -Infinity;
@@ -76,9 +73,7 @@ export function inverseNormalCdf(p: number): number {
     const q = Math.sqrt(-2 * Math.log(1 - p));
     x = -(((((c[0] * q + c[1]) * q + c[2]) * q + c[3]) * q + c[4]) * q + c[5]) / ((((d[0] * q + d[1]) * q + d[2]) * q + d[3]) * q + 1);
   }
-  const e = 0.5 * erfc(-x / Math.SQRT2) - p;
-  const u = e * Math.sqrt(2 * Math.PI) * Math.exp((x * x) / 2);
-  return x - u / (1 + (x * u) / 2);
+  return x;
 }
 
 /** Complementary error function (Numerical Recipes erfcc, fractional error < 1.2e−7 everywhere). */

@@ -33,12 +33,15 @@ export type BandQuantity = (typeof BAND_QUANTITIES)[number];
 /**
  * Per-product calibration learned later from lab results (the hook; nothing learns it here).
  * - bainiteTimeFactor multiplies Li's bainite τ̂ (e.g. fitted to dilatometry of the product): > 1 = slower.
+ * - ferritePearliteTimeFactor multiplies Li's ferrite and pearlite τ̂ on the quench path (e.g. fitted to
+ *   metallography of sections that did or did not show upper products).
  * - t0PrimeBiasWtPct is added to the T0′ carbon (§9.1: per-grade calibration to XRD retained-austenite carbon).
  * - bands: for any banded quantity, a bias added to every ensemble member and an extra normal spread (sd, same
  *   unit), drawn from the batch's seed, so calibrated bands stay reproducible.
  */
 export interface Calibration {
   bainiteTimeFactor?: number;
+  ferritePearliteTimeFactor?: number;
   t0PrimeBiasWtPct?: number;
   bands?: Partial<Record<BandQuantity, { bias?: number; sd?: number }>>;
 }

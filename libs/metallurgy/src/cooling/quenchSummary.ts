@@ -118,6 +118,7 @@ export function memberQuench(model: BatchModel, q: QuenchSummary): MemberQuench 
   const coreKnown = core.every((c) => c !== null);
   const lnCore = coreKnown ? (core as number[]).map((c) => Math.log(Math.max(c, 0.1))) : null;
   const s01 = liS(0.01);
+  // The nominal member carries the calibration factor but no model error; the stored sums are for Li as published.
   for (let k = 0; k < n; k++) {
     const z = m.heatTransferZ[k];
     const f = Math.exp(interpolateZ(lnF, z) + m.ferriteLnFactor[k] + q.ferriteLnSumPerAe3K * m.ae3ShiftC[k]);
