@@ -28,7 +28,7 @@ import {
   STEEL_TENSILE_PER_HV,
   TABOR_HV_PER_MPA,
 } from './properties.js';
-import { percentileOfSorted } from './random.js';
+import { percentilesInPlace } from './random.js';
 import { BAND_QUANTITIES, sectionSizeMm, type BandQuantity, type BatchSetup, type Calibration } from './setup.js';
 import { t0CarbonWtPct, t0PrimeCarbonWtPct } from './thermo/index.js';
 import { MODEL_VERSION } from './version.js';
@@ -84,6 +84,8 @@ export interface PredictOutput {
   uncertainty: { samples: number; seed: number };
   warnings: string[];
 }
+
+const PERCENTILES = [0.05, 0.5, 0.95] as const;
 
 /** Whole pipeline for one complete history: create, advance over every sample, finalize. */
 export function predict(input: PredictInput): PredictOutput {
@@ -156,12 +158,8 @@ export function finalizeBatch(state: BathState, opts: { calibration?: Calibratio
       if (cal && Number.isFinite(v)) v += (cal.bias ?? 0) + (z ? (cal.sd as number) * z[k - 1] : 0);
       values[k - 1] = Number.isNaN(v) ? Infinity : v;
     }
-    const sorted = values.slice().sort();
-    const p = (x: number) => {
-      const v = percentileOfSorted(sorted, x);
-      return Number.isFinite(v) ? round(v, digits) : null;
-    };
-    return { p05: p(0.05), p50: p(0.5), p95: p(0.95) };
+    const [q05, q50, q95] = percentilesInPlace(values, PERCENTILES).map((v) => (Number.isFinite(v) ? round(v, digits) : null));
+    return { p05: q05, p50: q50, p95: q95 };
   };
   bands.ceilingFraction = band('ceilingFraction', (r) => r.ceiling, 4);
   bands.fractionAtEnd = band('fractionAtEnd', (r) => r.fractionAtEnd, 4);
@@ -266,13 +264,22 @@ export function finalizeBatch(state: BathState, opts: { calibration?: Calibratio
 /** Lever-rule ceiling of member k at tempC from the T0 table columns (same formula as the kinetics' lever table). */
 export function memberT0PrimeWtPct(model: BatchModel, table: T0Table, k: number, tempC: number): number {
   const m = model.members;
-  const tp = t0TableAt(table, table.t0PrimeCalphad, tempC);
-  const alt = t0TableAt(table, table.t0PrimeAlt, tempC);
-  const t0 = t0TableAt(table, table.t0Calphad, tempC);
+  const len = table.t0Calphad.length;
+  let p = (tempC - table.fromC) / table.stepC;
+  if (p < 0) p = 0;
+  if (p > len - 1) p = len - 1;
+  const j = Math.max(0, Math.min(Math.floor(p), len - 2));
+  const j1 = Math.min(j + 1, len - 1);
+  const f = p - j;
+  // linear interpolation of each column at (j, f), written out (no closure: this runs once per member)
+  const tp = table.t0PrimeCalphad[j] + f * (table.t0PrimeCalphad[j1] - table.t0PrimeCalphad[j]);
+  const alt = table.t0PrimeAlt[j] + f * (table.t0PrimeAlt[j1] - table.t0PrimeAlt[j]);
+  const t0 = table.t0Calphad[j] + f * (table.t0Calphad[j1] - table.t0Calphad[j]);
   let c = tp + m.descriptionMix[k] * (alt - tp) + (m.storedEnergyScale[k] - 1) * (tp - t0) + (model.setup.calibration?.t0PrimeBiasWtPct ?? 0);
-  model.t0Elements.forEach((_, e) => {
-    c += t0TableAt(table, table.sensitivity[e], tempC) * m.t0ElementDelta[e][k];
-  });
+  for (let e = 0; e < table.sensitivity.length; e++) {
+    const col = table.sensitivity[e];
+    c += (col[j] + f * (col[j1] - col[j])) * m.t0ElementDelta[e][k];
+  }
   return c;
 }
 

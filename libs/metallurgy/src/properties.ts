@@ -64,7 +64,7 @@ export function bainiticFerriteYieldMPa(chem: ChemistryWtPct, formationTempC: nu
 /** As-quenched martensite hardness, HRC (ASTM A255 via §6.2 [F2]); carbon clamped to 0.1–0.7 wt%. */
 export function martensiteHrcA255(carbonWtPct: number): number {
   const c = Math.min(0.7, Math.max(0.1, carbonWtPct));
-  return 33.087 + 50.723 * c + 33.662 * c * c - 2.7048 * c ** 3 - 107.02 * c ** 4 + 43.523 * c ** 5;
+  return 33.087 + c * (50.723 + c * (33.662 + c * (-2.7048 + c * (-107.02 + c * 43.523))));
 }
 
 /** HV from HRC on the E140 rows, extended linearly beyond the first/last row (only used for phase hardness). */

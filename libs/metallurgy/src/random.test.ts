@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { erfc, inverseNormalCdf, latinHypercube, normalCdf, percentileOfSorted, SeededRandom } from './random.js';
+import { erfc, inverseNormalCdf, latinHypercube, normalCdf, percentileOfSorted, percentilesInPlace, SeededRandom } from './random.js';
 
 describe('seeded randomness', () => {
   it('is reproducible for a seed and differs between seeds', () => {
@@ -53,5 +53,19 @@ describe('percentiles', () => {
     expect(percentileOfSorted(sorted, 0.05)).toBeCloseTo(1.2, 12);
     expect(percentileOfSorted(sorted, 0.95)).toBeCloseTo(4.8, 12);
     expect(percentileOfSorted([1, Infinity, Infinity], 0.95)).toBe(Infinity);
+  });
+});
+
+describe('percentiles without sorting', () => {
+  it('equal the sorted type-7 percentiles for random data with ties and infinities', () => {
+    const rng = new SeededRandom(99);
+    for (let trial = 0; trial < 50; trial++) {
+      const n = 1 + rng.nextInt(400);
+      const data = new Float64Array(n);
+      for (let i = 0; i < n; i++) data[i] = rng.nextUniform() < 0.1 ? Infinity : Math.round(rng.nextUniform() * 50);
+      const sorted = data.slice().sort();
+      const expected = [0.05, 0.5, 0.95].map((p) => percentileOfSorted(sorted, p));
+      expect(percentilesInPlace(data.slice(), [0.05, 0.5, 0.95])).toEqual(expected);
+    }
   });
 });

@@ -130,3 +130,56 @@ export function percentileOfSorted(sorted: ArrayLike<number>, p: number): number
   if (a === b) return a; // also keeps ±Infinity out of Infinity − Infinity
   return a + (h - lo) * (b - a);
 }
+
+/**
+ * Type-7 percentiles of `values` without a full sort: quickselect (Hoare partition, median-of-three pivot) for the
+ * two order statistics each percentile interpolates between. Reorders `values` in place. O(n) per percentile; the
+ * result is identical to percentileOfSorted on the sorted array.
+ */
+export function percentilesInPlace(values: Float64Array, ps: readonly number[]): number[] {
+  const n = values.length;
+  return ps.map((p) => {
+    if (n === 0) return Number.NaN;
+    if (n === 1) return values[0];
+    const h = (n - 1) * p;
+    const lo = Math.floor(h);
+    const a = selectInPlace(values, lo);
+    if (lo + 1 >= n) return a;
+    // the next order statistic is the smallest value right of the selected one
+    let b = Infinity;
+    for (let i = lo + 1; i < n; i++) if (values[i] < b) b = values[i];
+    if (a === b) return a;
+    return a + (h - lo) * (b - a);
+  });
+}
+
+/** Puts the k-th smallest value at index k, smaller-or-equal values left of it, larger-or-equal right. */
+export function selectInPlace(a: Float64Array, k: number): number {
+  let left = 0;
+  let right = a.length - 1;
+  while (right > left) {
+    const mid = (left + right) >> 1;
+    // median of three as pivot
+    const x = a[left];
+    const y = a[mid];
+    const z = a[right];
+    const pivot = x < y ? (y < z ? y : x < z ? z : x) : x < z ? x : y < z ? z : y;
+    let i = left;
+    let j = right;
+    while (i <= j) {
+      while (a[i] < pivot) i++;
+      while (a[j] > pivot) j--;
+      if (i <= j) {
+        const t = a[i];
+        a[i] = a[j];
+        a[j] = t;
+        i++;
+        j--;
+      }
+    }
+    if (k <= j) right = j;
+    else if (k >= i) left = i;
+    else break;
+  }
+  return a[k];
+}
