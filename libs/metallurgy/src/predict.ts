@@ -397,7 +397,11 @@ function collectWarnings(w: string[], c: WarningContext): void {
       `bath: the part went down to ${fmt(c.partMinC)} °C, below Ms ${fmt(ms)} °C (van Bohemen): ${fmt(100 * nominal.final.bathMartensite, 1)} % martensite formed in the bath (Koistinen–Marburger), counted as bathMartensite`,
     );
   }
-  if (bs - c.bathMeanC < 30) {
+  if (c.bathMeanC >= bs) {
+    w.push(
+      `bath: mean bath temperature ${fmt(c.bathMeanC)} °C is at or above Bs ${fmt(bs)} °C: no bainite window; ferrite/pearlite forming during the hold itself are not modelled (only on the quench path)`,
+    );
+  } else if (bs - c.bathMeanC < 30) {
     w.push(`bath: mean bath temperature ${fmt(c.bathMeanC)} °C is within 30 °C of Bs ${fmt(bs)} °C: slow, coarse and blocky-prone transformation`);
   }
   if (nominal.ceiling < MIN_MEANINGFUL_CEILING) {

@@ -337,7 +337,14 @@ function processCell(ctx: CellContext, pts: number[], endS: number, record: bool
   const needHi = Math.min(hi, span.maxBsC) + span.maxOffsetC + 10;
   if (needLo < needHi) state.t0Table = ensureT0Table(state.t0Table, model.chem, model.t0Elements, needLo, needHi);
   const table = state.t0Table;
-  if (!table) return;
+  if (!table) {
+    // Every member is above its bainite start: nothing can form in this cell.
+    if (record) {
+      state.kin.tS = endS;
+      state.curve.push(endS, kin.v[0]);
+    }
+    return;
+  }
   const lever = leverTable(model, table);
   const len = table.t0Calphad.length;
   const fromC = table.fromC;
