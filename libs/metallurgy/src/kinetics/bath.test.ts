@@ -107,12 +107,16 @@ describe('bath kinetics (nominal member)', () => {
 
   it('cells integrate a fluctuating bath as well as per-second steps (relative 1e−4)', () => {
     const s = setup({ uncertainty: { samples: 0, seed: 1 } });
-    const log = bathLog(2 * 3600, (t) => 310 + 3 * Math.sin(t / 40) + 1.5 * Math.sin(t / 7));
+    // one hour: the extent clock stays below S(1) (where it stops counting), so the sums are comparable
+    const log = bathLog(3600, (t) => 310 + 3 * Math.sin(t / 40) + 1.5 * Math.sin(t / 7));
     const ref = bathProgress(advanceBath(createBathState(s, { cellS: 1 }), log));
+    expect(ref.sum[0]).toBeLessThan(liS(1));
     for (const cellS of [10, 30, 60]) {
       const p = bathProgress(advanceBath(createBathState(s, { cellS }), log));
       expect(Math.abs(p.sum[0] / ref.sum[0] - 1)).toBeLessThan(1e-4);
-      expect(Math.abs(p.v[0] / ref.v[0] - 1)).toBeLessThan(2e-3);
+      // v ratchets on the ceiling at the current temperature; cells see it at their mean (a cell-length filter on
+      // the log's wiggles), per-second cells at every wiggle, so v agrees less tightly than the clock
+      expect(Math.abs(p.v[0] / ref.v[0] - 1)).toBeLessThan(1e-2);
     }
   });
 

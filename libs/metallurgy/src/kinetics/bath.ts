@@ -5,7 +5,8 @@
  * Model (metallurgy.md §3.1, §3.4):
  *   part temperature  T(t) = logged bath temperature + the centre's excess over the bath from the quench
  *                     simulation (zero once the centre has reached the bath) + the member's thermocouple error
- *   extent clock      s(t) = ∫ dt / τ̂_B(T)    (Li 1998 additivity; exact because Li's τ is separable)
+ *   extent clock      s(t) = ∫ dt / τ̂_B(T)    (Li 1998 additivity; exact because Li's τ is separable); it stops
+ *                     counting once past S(1), where the extent is 1 for good
  *   normalised extent ξ = S⁻¹(s)
  *   bainite           v(t) = max over the history of L(T)·ξ, as a fraction of the austenite pool, where
  *                     L(T) = (C_T0′(T) − C̄)/(C_T0′(T) − s_b) is the lever-rule ceiling at the CURRENT temperature;
@@ -24,7 +25,7 @@ import { batchModel, type BatchModel } from '../ensemble.js';
 import { computeQuenchSummary, type QuenchSummary } from '../cooling/quenchSummary.js';
 import type { BatchSetup } from '../setup.js';
 import { MODEL_VERSION } from '../version.js';
-import { KELVIN, LI_EXTENT_TABLE, LI_Q_OVER_R_K } from './li1998.js';
+import { KELVIN, LI_EXTENT_TABLE, LI_Q_OVER_R_K, LI_S_OF_ONE } from './li1998.js';
 import { ensureT0Table, type T0Table } from './t0Table.js';
 
 export const BATH_STATE_FORMAT = 'ausline.bath-state/1';
@@ -221,6 +222,7 @@ const ABS_ZERO_OFFSET = KELVIN;
 const EXTENT_VALUES = LI_EXTENT_TABLE.values;
 const EXTENT_SCALE = LI_EXTENT_TABLE.scale;
 const EXTENT_SIZE = LI_EXTENT_TABLE.size;
+const EXTENT_CLOCK_END = LI_S_OF_ONE;
 
 // Scratch buffers for sub-steps (reused; no allocation per cell).
 let subDt = new Float64Array(64);
@@ -378,16 +380,19 @@ function processCell(ctx: CellContext, pts: number[], endS: number, record: bool
         lastL = -1;
         continue;
       }
-      const K = T + ABS_ZERO_OFFSET;
-      const r = P * u * u * Math.exp(-Q_OVER_R / K);
-      let inc = r * subDt[j];
-      if (u > 10) {
-        const g1 = -2 / u + Q_OVER_R / (K * K);
-        const g2 = -2 / (u * u) - (2 * Q_OVER_R) / (K * K * K);
-        inc += 0.5 * r * (g1 * g1 + g2) * subVar[j];
-        if (inc < 0) inc = 0;
+      // Once the clock is past S(1) the extent is 1 for good: skip the rate (most members, late in a batch).
+      if (sk < EXTENT_CLOCK_END) {
+        const K = T + ABS_ZERO_OFFSET;
+        const r = P * u * u * Math.exp(-Q_OVER_R / K);
+        let inc = r * subDt[j];
+        if (u > 10) {
+          const g1 = -2 / u + Q_OVER_R / (K * K);
+          const g2 = -2 / (u * u) - (2 * Q_OVER_R) / (K * K * K);
+          inc += 0.5 * r * (g1 * g1 + g2) * subVar[j];
+          if (inc < 0) inc = 0;
+        }
+        sk += inc;
       }
-      sk += inc;
       // Ceiling at the current temperature (linear interpolation on the member's lever table).
       let p = (T - fromC) * invStep;
       if (p < 0) p = 0;
