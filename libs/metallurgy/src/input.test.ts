@@ -68,6 +68,9 @@ describe('t0 input validation', () => {
     expect('input' in parseT0Input({ chemistryWtPct: { C: 0.4 }, fromC: 250, toC: 450, stepC: 50 })).toBe(true);
     const r = parseT0Input({ chemistryWtPct: { C: 0.4 }, fromC: 250, toC: 450, stepC: 0 });
     expect('issues' in r && r.issues[0].path).toBe('stepC');
+    expect('input' in parseT0Input({ chemistryWtPct: { C: 3.6, Si: 2.5 }, fromC: 250, toC: 450, stepC: 50, material: 'ductile-iron' })).toBe(true);
+    const iron = parseT0Input({ chemistryWtPct: { C: 3.6, Si: 2.5 }, fromC: 250, toC: 450, stepC: 50 });
+    expect('issues' in iron && iron.issues[0].path).toBe('chemistryWtPct.C');
     const far = parseT0Input({ chemistryWtPct: { C: 0.4 }, fromC: 0, toC: 900, stepC: 0.1 });
     expect('issues' in far && far.issues[0].message).toMatch(/at most 2001/);
   });

@@ -256,16 +256,20 @@ function parseCalibration(c: Checker, raw: unknown): Calibration | undefined {
   return out;
 }
 
-/** Validates a t0 input ({chemistryWtPct, fromC, toC, stepC}). Chemistry is checked as a steel's. */
+/**
+ * Validates a t0 input ({chemistryWtPct, fromC, toC, stepC}, optional material, default "steel"). The alloy's own
+ * carbon does not enter T0, so an iron's chemistry is accepted with material "ductile-iron".
+ */
 export function parseT0Input(raw: unknown): { input: T0Input; warnings: string[] } | { issues: InputIssue[] } {
   const c = new Checker();
-  const root = c.object(raw, '', ['chemistryWtPct', 'fromC', 'toC', 'stepC']);
+  const root = c.object(raw, '', ['chemistryWtPct', 'fromC', 'toC', 'stepC', 'material']);
   if (!root) return { issues: c.issues };
+  const material: Material | undefined = root.material === undefined ? 'steel' : c.oneOf<Material>(root, 'material', '', ['steel', 'ductile-iron']);
   const warnings: string[] = [];
   let chemistry: ChemistryWtPct | null = null;
   if (root.chemistryWtPct === undefined) c.fail('chemistryWtPct', 'is required (element symbol → wt%)');
-  else {
-    const checked = checkChemistry(root.chemistryWtPct, 'steel');
+  else if (material) {
+    const checked = checkChemistry(root.chemistryWtPct, material);
     for (const issue of checked.issues) {
       const path = issue.field.startsWith('chemistryWtPct') ? issue.field : `chemistryWtPct.${issue.field}`;
       if (issue.severity === 'error') c.fail(path, issue.message);
