@@ -1,0 +1,166 @@
+import { describe, expect, it } from 'vitest';
+import type { PredictInput } from './input.js';
+import { advanceBath, createBathState } from './kinetics/bath.js';
+import { finalizeBatch, predict, type PredictOutput } from './predict.js';
+import { BAND_QUANTITIES } from './setup.js';
+
+function bath(durationS: number, temp: (t: number) => number, stepS = 5): Array<[number, number]> {
+  const out: Array<[number, number]> = [];
+  for (let t = 0; t <= durationS; t += stepS) out.push([t, temp(t)]);
+  return out;
+}
+
+function steel(overrides: Partial<PredictInput> = {}): PredictInput {
+  return {
+    material: 'steel',
+    chemistryWtPct: { C: 0.6, Si: 1.6, Mn: 0.8, Cr: 0.5, Mo: 0.2 },
+    grainSizeAstm: 8,
+    section: { shape: 'cylinder', diameterMm: 8 },
+    austenitize: { tempC: 880, minutes: 20 },
+    transferS: 5,
+    agitation: 'strong',
+    ambientC: 20,
+    uncertainty: { samples: 120, seed: 9 },
+    bath: bath(3 * 3600, () => 300),
+    ...overrides,
+  };
+}
+
+const isBand = (b: unknown) => {
+  expect(b).toEqual({ p05: expect.any(Number), p50: expect.any(Number), p95: expect.any(Number) });
+  const { p05, p50, p95 } = b as { p05: number; p50: number; p95: number };
+  expect(p05).toBeLessThanOrEqual(p50);
+  expect(p50).toBeLessThanOrEqual(p95);
+};
+
+describe('predict', () => {
+  const out = predict(steel());
+
+  it('returns every documented field', () => {
+    expect(typeof out.modelVersion).toBe('string');
+    for (const k of ['ae1', 'ae3', 'bs', 'ms'] as const) expect(Number.isFinite(out.temperaturesC[k])).toBe(true);
+    expect(out.t0.bathTempC).toBeCloseTo(300, 6);
+    expect(out.t0.t0CarbonWtPct).toBeGreaterThan(out.t0.t0PrimeCarbonWtPct);
+    expect(out.bainite.ceilingFraction).toBeGreaterThan(0);
+    expect(out.bainite.fractionAtEnd).toBeLessThanOrEqual(out.bainite.ceilingFraction + 1e-9);
+    expect(out.bainite.timeTo95PctS).toEqual(expect.any(Number));
+    expect(out.bainite.curve[0]).toEqual([0, 0]);
+    expect(out.bainite.curve[out.bainite.curve.length - 1]).toEqual([3 * 3600, out.bainite.fractionAtEnd]);
+    for (const key of ['upperProductsFraction', 'coreReachesBathS', 'idealCriticalDiameterMm'] as const) expect(out.quench[key]).toEqual(expect.any(Number));
+    const f = out.final;
+    for (const key of ['bainiticFerrite', 'filmAustenite', 'blockyAustenite', 'freshMartensite', 'upperProducts', 'austeniteCarbonWtPct', 'residualAusteniteMsC'] as const) {
+      expect(f[key]).toEqual(expect.any(Number));
+    }
+    expect(f.bainiticFerrite + f.filmAustenite + f.blockyAustenite + f.freshMartensite + f.upperProducts + f.bathMartensite).toBeCloseTo(1, 3);
+    isBand(out.properties.hardnessHV);
+    isBand(out.properties.tensileMPa);
+    expect(out.properties.adiGrade).toBeUndefined();
+    expect(Array.isArray(out.warnings)).toBe(true);
+    for (const q of BAND_QUANTITIES) expect(out.bands[q]).toHaveProperty('p50');
+    // fractions are volume fractions between 0 and 1
+    for (const v of [out.bainite.ceilingFraction, out.bainite.fractionAtEnd, out.quench.upperProductsFraction, ...Object.values(f).slice(0, 6)]) {
+      expect(v).toBeGreaterThanOrEqual(0);
+      expect(v).toBeLessThanOrEqual(1);
+    }
+  });
+
+  it('the austenite carbon at completion is the T0′ carbon (the lever rule closes on itself)', () => {
+    // complete transformation: C_γ = (C̄ − V_b·s_b)/(1 − V_b) with V_b at the ceiling equals C_T0′ (metallurgy.md §3.4/§5.1)
+    const pool = 1 - out.final.upperProducts;
+    expect(out.bainite.fractionAtEnd / pool).toBeCloseTo(out.bainite.ceilingFraction / pool, 3);
+    expect(out.final.austeniteCarbonWtPct).toBeCloseTo(out.t0.t0PrimeCarbonWtPct, 2);
+  });
+
+  it('the same seed gives the same bands; another seed other bands', () => {
+    const again = predict(steel());
+    expect(again.bands).toEqual(out.bands);
+    const other = predict(steel({ uncertainty: { samples: 120, seed: 10 } }));
+    expect(other.bands.hardnessHV).not.toEqual(out.bands.hardnessHV);
+  });
+
+  it('more carbon lowers the ceiling', () => {
+    const lowC = predict(steel({ chemistryWtPct: { C: 0.5, Si: 1.6, Mn: 0.8, Cr: 0.5, Mo: 0.2 }, uncertainty: { samples: 0, seed: 1 } }));
+    const highC = predict(steel({ chemistryWtPct: { C: 0.7, Si: 1.6, Mn: 0.8, Cr: 0.5, Mo: 0.2 }, uncertainty: { samples: 0, seed: 1 } }));
+    expect(highC.bainite.ceilingFraction).toBeLessThan(lowC.bainite.ceilingFraction);
+  });
+
+  it('a lower bath temperature above Ms raises the ceiling', () => {
+    const ms = out.temperaturesC.ms;
+    const cooler = predict(steel({ bath: bath(3600, () => ms + 20), uncertainty: { samples: 0, seed: 1 } }));
+    const warmer = predict(steel({ bath: bath(3600, () => ms + 120), uncertainty: { samples: 0, seed: 1 } }));
+    expect(cooler.bainite.ceilingFraction).toBeGreaterThan(warmer.bainite.ceilingFraction);
+    expect(cooler.final.bathMartensite).toBe(0);
+  });
+
+  it('a bath below Ms forms martensite on entry and says so', () => {
+    const ms = out.temperaturesC.ms;
+    const below = predict(steel({ bath: bath(1800, () => ms - 40), uncertainty: { samples: 0, seed: 1 } }));
+    expect(below.final.bathMartensite).toBeGreaterThan(0.1);
+    expect(below.warnings.join('\n')).toMatch(/below Ms/);
+  });
+
+  it('warns (common practice) when Si + Al is too low to keep cementite out', () => {
+    // Trade rule of thumb (common practice): 1–2 wt% Si keeps cementite out of the enriched austenite (metallurgy.md §5.3).
+    const low = predict(steel({ chemistryWtPct: { C: 0.6, Si: 0.25, Mn: 0.8, Cr: 0.5, Mo: 0.2 }, uncertainty: { samples: 0, seed: 1 } }));
+    expect(low.warnings.some((w) => /common practice/.test(w) && /Si \+ Al/.test(w))).toBe(true);
+    expect(out.warnings.some((w) => /Si \+ Al/.test(w))).toBe(false);
+  });
+
+  it('a short hold warns of incomplete transformation and leaves more blocky austenite and fresh martensite', () => {
+    const short = predict(steel({ bath: bath(900, () => 300), uncertainty: { samples: 0, seed: 1 } }));
+    expect(short.warnings.join('\n')).toMatch(/incomplete transformation/);
+    expect(short.final.blockyAustenite + short.final.freshMartensite).toBeGreaterThan(out.final.blockyAustenite + out.final.freshMartensite);
+    expect(short.bainite.timeTo95PctS).toBeNull();
+  });
+
+  it('calibration: a band bias shifts the band, a time factor slows the kinetics', () => {
+    const calibrated = predict(steel({ calibration: { bands: { hardnessHV: { bias: 25 } } } }));
+    expect(calibrated.bands.hardnessHV.p50).toBeCloseTo((out.bands.hardnessHV.p50 as number) + 25, 0);
+    expect(calibrated.bands.bainiticFerrite).toEqual(out.bands.bainiticFerrite);
+    const slow = predict(steel({ bath: bath(3600, () => 300), calibration: { bainiteTimeFactor: 3 }, uncertainty: { samples: 0, seed: 1 } }));
+    const normal = predict(steel({ bath: bath(3600, () => 300), uncertainty: { samples: 0, seed: 1 } }));
+    expect(slow.bainite.fractionAtEnd).toBeLessThan(normal.bainite.fractionAtEnd);
+    // spread: a calibration sd widens the band
+    const spread = predict(steel({ calibration: { bands: { hardnessHV: { sd: 40 } } } }));
+    const width = (o: PredictOutput) => (o.bands.hardnessHV.p95 as number) - (o.bands.hardnessHV.p05 as number);
+    expect(width(spread)).toBeGreaterThan(width(out));
+  });
+
+  it('finalizing a state advanced in slices gives the same prediction as predict()', () => {
+    const input = steel();
+    const { bath: log, ...setup } = input;
+    let state = createBathState(setup);
+    for (let i = 0; i < log.length; i += 37) state = advanceBath(state, log.slice(i, i + 37));
+    expect(finalizeBatch(state)).toEqual(out);
+  });
+
+  it('finalize refuses an empty state', () => {
+    const { bath: _unused, ...setup } = steel();
+    expect(() => finalizeBatch(createBathState(setup))).toThrow(/no samples/);
+  });
+});
+
+describe('predict for austempered ductile iron', () => {
+  const adi = predict({
+    material: 'ductile-iron',
+    chemistryWtPct: { C: 3.6, Si: 2.5, Mn: 0.3, Cu: 0.6, Ni: 0.8, Mo: 0.2 },
+    grainSizeAstm: 7,
+    section: { shape: 'plate', thicknessMm: 6 },
+    austenitize: { tempC: 900, minutes: 90 },
+    transferS: 5,
+    agitation: 'strong',
+    ambientC: 20,
+    uncertainty: { samples: 100, seed: 3 },
+    calibration: { ferritePearliteTimeFactor: 10 },
+    bath: bath(2 * 3600, () => 360),
+  });
+
+  it('uses the matrix carbon, reports an A897 grade (or null) and ADI warnings', () => {
+    // matrix carbon 900/420 − 0.17·2.5 − 0.95 = 0.768 wt% (Voigt–Loper, from memory) enters via the T0′ lever
+    expect(adi.material).toBe('ductile-iron');
+    expect(adi.properties).toHaveProperty('adiGrade');
+    expect(adi.properties.adiGrade === null || /^\d+\/\d+\/\d+$/.test(adi.properties.adiGrade as string)).toBe(true);
+    expect(adi.warnings.join('\n')).toMatch(/not cast iron/);
+    expect(adi.final.bainiticFerrite).toBeGreaterThan(0.05);
+  });
+});
