@@ -7,6 +7,7 @@ import { IngestModule } from './ingest/ingest.module.js';
 import { JsonLogger } from './http/logger.js';
 import { OpsModule } from './ops/ops.module.js';
 import { PrismaModule } from './prisma.provider.js';
+import { PyrometryModule } from './pyrometry/pyrometry.module.js';
 import { QueriesModule } from './queries/queries.module.js';
 import { StreamModule } from './stream/stream.module.js';
 
@@ -45,6 +46,7 @@ export class AppModule {
         IngestModule,
         QueriesModule,
         StreamModule,
+        PyrometryModule,
         DashboardModule,
       ],
     };

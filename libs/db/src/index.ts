@@ -13,3 +13,4 @@ export {
 } from './migrate/run-migrations.js';
 export * from './repositories/deviations.js';
 export * from './repositories/recompute-inputs.js';
+export * from './repositories/pyrometry.js';

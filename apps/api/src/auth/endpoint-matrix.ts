@@ -94,6 +94,29 @@ export const ENDPOINT_MATRIX: readonly EndpointEntry[] = [
 
   // --- dashboard (W): chart series; the built app itself is static middleware, not a route --------
   { method: 'GET', path: '/v1/batches/:id/series', access: SIGNED_IN },
+
+  // --- pyrometry (PW, issue 8): admins keep the records, admins or quality enter tests; everyone reads --
+  { method: 'PUT', path: '/v1/equipment/:id/pyrometry', access: ADMIN },
+  { method: 'GET', path: '/v1/equipment/:id/pyrometry', access: SIGNED_IN },
+  { method: 'GET', path: '/v1/lines/:id/pyrometry/due', access: SIGNED_IN },
+  { method: 'GET', path: '/v1/pyrometry/references', access: SIGNED_IN },
+  { method: 'POST', path: '/v1/pyrometry/sensors', access: ADMIN },
+  { method: 'GET', path: '/v1/pyrometry/sensors', access: SIGNED_IN },
+  { method: 'GET', path: '/v1/pyrometry/sensors/:id', access: SIGNED_IN },
+  { method: 'POST', path: '/v1/pyrometry/sensors/:id/calibrations', access: ADMIN },
+  { method: 'POST', path: '/v1/pyrometry/sensors/:id/retire', access: ADMIN },
+  { method: 'POST', path: '/v1/pyrometry/instruments', access: ADMIN },
+  { method: 'GET', path: '/v1/pyrometry/instruments', access: SIGNED_IN },
+  { method: 'POST', path: '/v1/pyrometry/instruments/:id/calibrations', access: ADMIN },
+  { method: 'POST', path: '/v1/pyrometry/instruments/:id/retire', access: ADMIN },
+  { method: 'POST', path: '/v1/equipment/:id/accuracy-tests', access: { roles: ['ADMIN', 'QUALITY'] } },
+  { method: 'GET', path: '/v1/equipment/:id/accuracy-tests', access: SIGNED_IN },
+  { method: 'POST', path: '/v1/pyrometry/accuracy-tests/import', access: { roles: ['ADMIN', 'QUALITY'] } },
+  { method: 'POST', path: '/v1/equipment/:id/uniformity-surveys', access: { roles: ['ADMIN', 'QUALITY'] } },
+  { method: 'POST', path: '/v1/equipment/:id/uniformity-surveys/import', access: { roles: ['ADMIN', 'QUALITY'] } },
+  { method: 'GET', path: '/v1/equipment/:id/uniformity-surveys', access: SIGNED_IN },
+  { method: 'GET', path: '/v1/equipment/:id/suspect-triggers', access: SIGNED_IN },
+  { method: 'POST', path: '/v1/pyrometry/overdue-sweep', access: { roles: ['ADMIN', 'QUALITY'] } },
 ];
 
 /**
