@@ -1,6 +1,6 @@
 import { Inject, Injectable } from '@nestjs/common';
 import { ProcessWindow, type LiveEvent } from '@ausline/contracts';
-import { DeviationRepository, RecomputeInputsRepository, type DeviationChange, type PrismaClient } from '@ausline/db';
+import { DeviationRepository, PyrometryRepository, RecomputeInputsRepository, type DeviationChange, type PrismaClient } from '@ausline/db';
 import { LiveEventsPublisher } from '../events/live-events.js';
 import { WorkerMetrics } from '../ops/worker-metrics.js';
 import { PRISMA } from '../prisma.js';
@@ -38,6 +38,8 @@ const RECOMPUTE_TX_TIMEOUT_MS = 60_000;
 export class RecomputeService {
   private readonly inputs: RecomputeInputsRepository;
   private readonly deviations: DeviationRepository;
+  /** Pyrometry (PW, issue 8): calibration corrections, equipment compliance, suspect product. */
+  private readonly pyrometry: PyrometryRepository;
   private readonly steps: readonly RecomputeStep[] = RECOMPUTE_STEPS;
 
   constructor(
@@ -47,6 +49,7 @@ export class RecomputeService {
   ) {
     this.inputs = new RecomputeInputsRepository(prisma);
     this.deviations = new DeviationRepository(prisma);
+    this.pyrometry = new PyrometryRepository(prisma);
   }
 
   async recompute(batchId: string): Promise<RecomputeOutcome> {
@@ -64,7 +67,19 @@ export class RecomputeService {
         const inputs = await this.inputs.load(batchId, { leadMs }, tx);
         if (!inputs) throw new BatchNotFoundError(batchId);
 
-        const ctx: RecomputeContext = { inputs, nowMs: startedAt.getTime(), findings: [], evaluatedRules: [], processWindow: null };
+        // --- pyrometry (PW, issue 8) ---------------------------------------------------------------------
+        // Rules read the channels corrected by the sensor/instrument certificates (raw samples stay as
+        // stored); the batch gets its equipment-compliance and suspect-product findings; suspect-product
+        // deviations that an overdue test opens on other batches come back as changes to publish.
+        const pyrometry = await this.pyrometry.forRecompute(inputs, startedAt, tx);
+        const ctx: RecomputeContext = {
+          inputs: { ...inputs, channels: pyrometry.channels },
+          nowMs: startedAt.getTime(),
+          findings: [...pyrometry.findings],
+          evaluatedRules: [...pyrometry.rules],
+          processWindow: null,
+        };
+        // --- end pyrometry -----------------------------------------------------------------------------
         try {
           for (const step of this.steps) step.run(ctx);
         } catch (error) {
@@ -82,7 +97,7 @@ export class RecomputeService {
           tx,
         );
         const staleCleared = await this.inputs.clearStaleIfCovered(batchId, startedAt, tx);
-        return { batchId, lineId: inputs.batch.lineId, findings: ctx.findings.length, changes, staleCleared };
+        return { batchId, lineId: inputs.batch.lineId, findings: ctx.findings.length, changes: [...pyrometry.changes, ...changes], staleCleared };
       },
       { timeout: RECOMPUTE_TX_TIMEOUT_MS, maxWait: 10_000 },
     );
