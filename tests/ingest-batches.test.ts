@@ -1,7 +1,11 @@
 /**
  * Product specs, batches, load events and lab results over HTTP, against the real Postgres and Redis.
  */
-import { describe, expect, it } from 'vitest';
+import { Queue } from 'bullmq';
+import { Redis } from 'ioredis';
+import { afterAll, describe, expect, it } from 'vitest';
+import { RECOMPUTE_QUEUE, recomputeDedupId } from '@ausline/contracts';
+import { TEST_REDIS_URL } from './support/env.js';
 import { adiWindow } from './fixtures/austempering-plant.js';
 import { createBatchViaApi, postEvent, startIngestWorld, uniqueCode } from './ingest-fixtures.js';
 
@@ -271,5 +275,42 @@ describe('GET /v1/batches/:id', () => {
     expect(tc2).toMatchObject({ count: 0, min: null, first: null });
     expect(detail.body).toMatchObject({ latestPrediction: null, deviations: [], status: 'DONE', spec: { version: 1 } });
     expect((await http.get(`/v1/batches/${crypto.randomUUID()}`, metallurgist.headers)).status).toBe(404);
+  });
+});
+
+describe('recompute on heat revisions, events and lab results', () => {
+  const queue = new Queue(RECOMPUTE_QUEUE, { connection: new Redis(TEST_REDIS_URL, { maxRetriesPerRequest: null }), prefix: world.config.QUEUE_PREFIX });
+  afterAll(async () => {
+    await queue.close();
+  });
+  const queuedFor = async (batchId: string) => {
+    const jobId = await queue.getDeduplicationJobId(recomputeDedupId(batchId));
+    return jobId ? ((await queue.getJob(jobId))?.data as { batchId: string; reason: string } | undefined) : undefined;
+  };
+
+  it('queues the batches of a heat when its chemistry is revised', async () => {
+    const heatNumber = uniqueCode('HR');
+    const chemistry = { C: 3.55, Si: 2.45, Mn: 0.28, Mg: 0.042 };
+    expect((await http.post('/v1/heats', { heatNumber, material: 'DUCTILE_IRON', chemistryWtPct: chemistry }, labKey.headers)).status).toBe(201);
+    const batch = await http.post(
+      '/v1/batches',
+      { code: uniqueCode('LOAD'), lineId: plant.lineId, heatNumber, productSpecId: plant.specId, partCount: 10, weightKg: 90, sectionShape: 'PLATE', sectionSizeMm: 12 },
+      admin.headers,
+    );
+    const batchId: string = batch.body.batch.id;
+    expect(await queuedFor(batchId)).toBeUndefined();
+    const revised = await http.post('/v1/heats', { heatNumber, material: 'DUCTILE_IRON', chemistryWtPct: { ...chemistry, Si: 2.6 }, revisionReason: 'foundry re-analysed the coupon' }, labKey.headers);
+    expect(revised.body.outcome).toBe('revised');
+    expect(await queuedFor(batchId)).toMatchObject({ batchId, reason: 'heat' });
+  });
+
+  it('queues the batch of a new load event and of a new lab result, not of a retried one', async () => {
+    const batch = await createBatchViaApi(world);
+    await postEvent(world, batch.id, 'CHARGED', Date.now() - 3_600_000);
+    expect(await queuedFor(batch.id)).toMatchObject({ batchId: batch.id, reason: 'load-event' });
+    const lab = { kind: 'RETAINED_AUSTENITE', method: 'XRD', testStandard: 'ASTM E975', volumePct: 25, externalRef: uniqueCode('RA') };
+    await http.post(`/v1/batches/${batch.id}/lab-results`, lab, labKey.headers);
+    // Debounced: the waiting job now carries the latest reason.
+    expect(await queuedFor(batch.id)).toMatchObject({ batchId: batch.id, reason: 'lab-result' });
   });
 });

@@ -293,3 +293,16 @@ describe('samples: recompute of the batches they touch', () => {
     expect(row.stale).toBe(false);
   });
 });
+
+describe('samples: metrics', () => {
+  it('counts stored, duplicate and rejected samples and ingest requests by outcome', async () => {
+    const text = await (await fetch(`${world.api.url}/metrics`)).text();
+    const value = (series: string) => Number(text.split('\n').find((l) => l.startsWith(series))?.split(' ').pop() ?? 'NaN');
+    expect(value('ausline_ingest_samples_total{outcome="stored"}')).toBeGreaterThanOrEqual(10_000);
+    expect(value('ausline_ingest_samples_total{outcome="duplicate"}')).toBeGreaterThanOrEqual(10_000);
+    expect(value('ausline_ingest_samples_total{outcome="rejected"}')).toBeGreaterThan(0);
+    expect(value('ausline_ingest_requests_total{kind="samples",outcome="accepted"}')).toBeGreaterThan(0);
+    expect(value('ausline_ingest_requests_total{kind="samples",outcome="rejected"}')).toBeGreaterThan(0);
+    expect(value('ausline_ingest_requests_total{kind="samples",outcome="duplicate"}')).toBeGreaterThan(0);
+  });
+});

@@ -19,6 +19,9 @@ describe('ChemistryWtPct', () => {
   it('accepts known elements with carbon', () => {
     expect(ChemistryWtPct.safeParse({ C: 0.98, Si: 1.45, Mn: 1.05, Cr: 1.45 }).success).toBe(true);
   });
+  it('accepts a ductile iron certificate with residual Mg and Sn', () => {
+    expect(ChemistryWtPct.safeParse({ C: 3.6, Si: 2.5, Mn: 0.3, Cu: 0.6, Ni: 0.5, Mg: 0.045, Sn: 0.01 }).success).toBe(true);
+  });
   it('names an unknown element symbol by its key', () => {
     const r = ChemistryWtPct.safeParse({ C: 0.5, Xx: 1 });
     expect(issuePaths(r)).toEqual(['Xx']);

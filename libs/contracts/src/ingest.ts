@@ -42,9 +42,14 @@ export type Material = z.infer<typeof Material>;
 // Heats
 // ---------------------------------------------------------------------------------------------
 
-/** Element symbols a heat's chemistry may carry (and product specs may limit). */
+/**
+ * Element symbols a heat's chemistry may carry (and product specs may limit): the alloying and
+ * residual elements of steel certificates, plus Mg, Sn and Sb, which every ductile iron certificate
+ * states (residual Mg makes the graphite nodular; Sn and Sb promote pearlite and are limited for ADI;
+ * common practice).
+ */
 export const CHEMISTRY_ELEMENTS = [
-  'C', 'Si', 'Mn', 'Ni', 'Cr', 'Mo', 'Al', 'Cu', 'V', 'Nb', 'Ti', 'B', 'N', 'P', 'S', 'Co', 'W',
+  'C', 'Si', 'Mn', 'Ni', 'Cr', 'Mo', 'Al', 'Cu', 'V', 'Nb', 'Ti', 'B', 'N', 'P', 'S', 'Co', 'W', 'Mg', 'Sn', 'Sb',
 ] as const;
 export type ChemistryElement = (typeof CHEMISTRY_ELEMENTS)[number];
 const KNOWN_ELEMENTS: ReadonlySet<string> = new Set(CHEMISTRY_ELEMENTS);
