@@ -4,3 +4,4 @@ export * from './spec.js';
 export * from './ingest.js';
 export * from './admin.js';
 export * from './config.js';
+export * from './prediction.js';

@@ -118,9 +118,50 @@ export const TensileBand = z
 export type TensileBand = z.infer<typeof TensileBand>;
 
 /**
+ * ADI processing window (metallurgy.md §4.2 [M]): Stage I is finished when the untransformed, carbon-poor austenite
+ * (which turns to martensite on cooling) is below `stageIMaxMartensiteFraction` (default 0.03, §4.2); Stage II
+ * (carbides from the high-carbon austenite) must not have begun. The engine does not model Stage II: its onset is the
+ * product's measured onset time at a reference temperature (e.g. from trial holds checked by XRD), scaled to the
+ * logged temperature by an Arrhenius law. Defaults are our assumptions, stated in libs/compliance verdicts.
+ */
+export const AdiProcessWindow = z.strictObject({
+  stageIMaxMartensiteFraction: fraction.optional(),
+  stageIIOnsetMin: positiveMinutes.max(10_000).optional(),
+  stageIIOnsetRefTempC: tempC.optional(),
+});
+export type AdiProcessWindow = z.infer<typeof AdiProcessWindow>;
+
+/**
+ * Per-product settings of the metallurgical prediction. `section` is the part section the spec is written for
+ * (heat advice uses it; a batch uses its own section). `calibration` is the model calibration a metallurgist sets
+ * from dilatometry, XRD or metallography of the product (libs/metallurgy README, Calibration).
+ */
+export const PredictionSettings = z.strictObject({
+  section: z
+    .strictObject({
+      shape: z.enum(['PLATE', 'CYLINDER', 'SQUARE_BAR']),
+      /** Thickness (PLATE), diameter (CYLINDER) or side (SQUARE_BAR), mm. */
+      sizeMm: z.number().finite().positive().max(2000),
+    })
+    .optional(),
+  /** Prior-austenite grain size, ASTM E112 number (default 8). */
+  grainSizeAstm: z.number().finite().min(0).max(15).optional(),
+  /** Temperature the parts cool to after the hold (default 20 °C). */
+  ambientC: z.number().finite().min(-50).max(100).optional(),
+  calibration: z
+    .strictObject({
+      bainiteTimeFactor: z.number().finite().positive().max(100).optional(),
+      ferritePearliteTimeFactor: z.number().finite().positive().max(100).optional(),
+      t0PrimeBiasWtPct: z.number().finite().min(-1).max(1).optional(),
+    })
+    .optional(),
+});
+export type PredictionSettings = z.infer<typeof PredictionSettings>;
+
+/**
  * What the finished load must show. Every field is optional: a spec names only what its customer asks
- * for. The metallurgical fields are checked against predictions and lab results in a later issue; they
- * are accepted and stored now so specs do not need a new version when those checks arrive.
+ * for. The metallurgical fields are judged on each batch's prediction (p05/p50/p95, libs/compliance
+ * verdicts) and checked against lab results; a criterion the spec does not name is not judged.
  */
 export const AcceptanceCriteria = z
   .strictObject({
@@ -140,6 +181,17 @@ export const AcceptanceCriteria = z
     minBsMarginC: z.number().finite().min(0).optional(),
     /** Carbide-free bainite needs Si (+Al) to suppress cementite; minimum of their sum in wt%. */
     minSiPlusAlWtPct: z.number().finite().min(0).max(10).optional(),
+    /** Upper transformation products (ferrite, pearlite) formed at the centre of the batch's section during
+     *  the quench, before it reaches the bath; volume fraction 0..1 (the slack-quench defect). */
+    maxUpperProductsFraction: fraction.optional(),
+    /** The hold must last until the transformation reached 95 % of its T0′ ceiling (with 95 % confidence). */
+    requireCompleteTransformation: z.boolean().optional(),
+    /** The austenite left after the hold must be stable at ambient: its Ms (carbon-enriched) below ambient. */
+    requireStableRetainedAustenite: z.boolean().optional(),
+    /** Ductile iron: the ADI processing window, Stage I finished and Stage II not begun at the end of the hold. */
+    adiProcessWindow: AdiProcessWindow.optional(),
+    /** How the metallurgical prediction is set up for this product (all optional, defaults stated). */
+    prediction: PredictionSettings.optional(),
   });
 export type AcceptanceCriteria = z.infer<typeof AcceptanceCriteria>;
 
