@@ -171,8 +171,10 @@ describe('every model round-trips through the generated client', () => {
         inputDigest: 'b'.repeat(64),
         watermark: t('2026-12-01T10:00:00.125Z'),
         phase: 'IN_BATH',
+        milestone: 'into-bath',
         result: { bainiteFraction: 0.42 },
         state: { tS: 300, fraction: 0.42 },
+        updatedAt: t('2026-12-01T10:00:01.250Z'),
       },
     });
     record(
