@@ -51,8 +51,9 @@ import type { RecomputeChannel, RecomputeInputs } from './recompute-inputs.js';
  * equipment compliance at the start of a batch, sensor uses, found-overdue look-backs) and by the API
  * (due lists, equipment status, suspect product after a failed test).
  *
- * Equipment without an EquipmentRecord is not enrolled: its channels are read uncorrected and its
- * batches get no pyrometry findings, so plants (and tests) that keep no pyrometry records see nothing.
+ * Equipment without an EquipmentRecord is not enrolled: its batches get no compliance findings and no
+ * look-backs, so plants (and tests) that keep no pyrometry records see nothing. A sensor or instrument
+ * certificate on a channel corrects its readings whether or not the equipment is enrolled.
  */
 
 // ---------------------------------------------------------------------------------------------
