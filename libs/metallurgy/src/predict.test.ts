@@ -57,6 +57,12 @@ describe('predict', () => {
     expect(out.properties.adiGrade).toBeUndefined();
     expect(Array.isArray(out.warnings)).toBe(true);
     for (const q of BAND_QUANTITIES) expect(out.bands[q]).toHaveProperty('p50');
+    // retained austenite = films + blocky per member (ordered band; without an ensemble it is the nominal sum)
+    const ra = out.bands.retainedAusteniteFraction;
+    expect(ra.p05 as number).toBeLessThanOrEqual(ra.p50 as number);
+    expect(ra.p50 as number).toBeLessThanOrEqual(ra.p95 as number);
+    const single = predict(steel({ uncertainty: { samples: 0, seed: 1 } }));
+    expect(single.bands.retainedAusteniteFraction.p50).toBeCloseTo(single.final.filmAustenite + single.final.blockyAustenite, 3);
     // fractions are volume fractions between 0 and 1
     for (const v of [out.bainite.ceilingFraction, out.bainite.fractionAtEnd, out.quench.upperProductsFraction, ...Object.values(f).slice(0, 6)]) {
       expect(v).toBeGreaterThanOrEqual(0);

@@ -176,6 +176,8 @@ export function finalizeBatch(state: BathState, opts: { calibration?: Calibratio
   bands.t0PrimeCarbonWtPct = band('t0PrimeCarbonWtPct', (r) => r.t0Prime, 4);
   bands.hardnessHV = band('hardnessHV', (r) => r.hardnessHV, 0);
   bands.tensileMPa = band('tensileMPa', (r) => r.tensileMPa, 0);
+  // Films + blocky austenite left after cooling (a spec's maximum retained austenite judges the member sum).
+  bands.retainedAusteniteFraction = band('retainedAusteniteFraction', (r) => r.final.filmAustenite + r.final.blockyAustenite, 4);
   // HRC and HBW are monotonic conversions of HV, so their percentiles are the conversions of HV's percentiles.
   const convert = (b: Band, f: (hv: number) => number | null, digits: number): Band => ({
     p05: b.p05 === null ? null : roundOrNull(f(b.p05), digits),

@@ -27,6 +27,8 @@ export const BAND_QUANTITIES = [
   'hardnessHRC',
   'hardnessHBW',
   'tensileMPa',
+  // Appended (not inserted) so the calibration spreads of the quantities above keep their random streams.
+  'retainedAusteniteFraction',
 ] as const;
 export type BandQuantity = (typeof BAND_QUANTITIES)[number];
 
