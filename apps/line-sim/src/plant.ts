@@ -514,4 +514,5 @@ export const DEMO_USERS: readonly DemoUserDef[] = [
 ];
 
 export const LAB_KEY_LABEL = 'Harrow Vale metallurgy lab';
-export const controllerKeyLabel = (equipmentCode: string): string => `${equipmentCode} controller`;
+/** The line controller (PLC of furnace, transfer and bath) has one key scoped to the line's furnace and bath. */
+export const controllerKeyLabel = (lineCode: string): string => `${lineCode} line controller`;

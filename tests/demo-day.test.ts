@@ -1,0 +1,124 @@
+/**
+ * The demo day (apps/line-sim DEMO_DAY) at full speed against the real service: API and worker in-process
+ * on a private database, the plant set up through the public API, every controller posting with its own
+ * key. Afterwards:
+ *  - every sample a controller had acknowledged is stored exactly once, with the value sent;
+ *  - every batch, load event and lab result of the day is there;
+ *  - the process-window planted problems (bath creeping out of band, thermocouple drifting from its twin,
+ *    short hold) raised exactly their deviations, and no other batch raised any.
+ * The metallurgical planted problems are checked in demo-metallurgy.test.ts (issue 4).
+ * All plant data are invented (apps/line-sim/src/plant.ts).
+ */
+import { beforeAll, describe, expect, it } from 'vitest';
+import { ALL_HEATS } from '../apps/line-sim/src/plant.js';
+import { DEMO_DAY, PROCESS_WINDOW_EXPECTATIONS, ROUTINE } from '../apps/line-sim/src/scenario.js';
+import { buildSchedule } from '../apps/line-sim/src/schedule.js';
+import { setupDemoPlant } from '../apps/line-sim/src/setup.js';
+import { Simulator, type SimReport } from '../apps/line-sim/src/simulator.js';
+import { startService } from '../apps/line-sim/test/service-harness.js';
+
+const service = await startService('demo-day');
+const prisma = service.db.prisma;
+
+const DAY_MS = DEMO_DAY.durationMin * 60_000;
+// The day ends on the last whole minute: accelerated plant time must stay behind the wall clock.
+const startMs = Math.floor(Date.now() / 60_000) * 60_000 - DAY_MS;
+const schedule = buildSchedule(DEMO_DAY, ROUTINE, { startMs, routine: false });
+const loads = schedule.lines.flatMap((l) => l.loads);
+
+let report: SimReport;
+let wallS = 0;
+
+beforeAll(async () => {
+  const setup = await setupDemoPlant({ apiUrl: service.url, adminToken: service.adminToken });
+  const t0 = Date.now();
+  const simulator = new Simulator({
+    apiUrl: service.url,
+    plant: setup.plant,
+    schedule,
+    seed: DEMO_DAY.seed,
+    speed: Number.POSITIVE_INFINITY,
+    stopAtMs: startMs + DAY_MS,
+    heats: ALL_HEATS,
+    runId: `test-${Date.now().toString(36)}`,
+    maxStepMs: 5 * 60_000,
+  });
+  report = await simulator.run(300_000);
+  await service.settle(300_000);
+  wallS = (Date.now() - t0) / 1000;
+}, 900_000);
+
+describe('the demo day against the real service', () => {
+  it('sends everything and loses nothing', () => {
+    const sent = report.channels.reduce((a, c) => a + c.generated, 0);
+    const acked = report.controllers.reduce((a, c) => a + c.samplesAcked, 0);
+    // Figures for the log: how much a plant day is, and how fast it went through.
+    console.log(`demo day: ${sent} samples, ${loads.length} batches, ${report.eventsAcked} events, ${report.labResultsAcked} lab results in ${wallS.toFixed(1)} s`);
+    expect(report.plantReachedMs).toBe(startMs + DAY_MS);
+    expect(report.controllers.map((c) => ({ name: c.name, pending: c.pending, rejected: c.rejected }))).toEqual(
+      report.controllers.map((c) => ({ name: c.name, pending: 0, rejected: 0 })),
+    );
+    expect(acked).toBe(sent);
+  });
+
+  it('stores every acknowledged sample exactly once, with the value sent', async () => {
+    const rows = await prisma.$queryRaw<Array<{ equipment: string; channel: string; n: number; sum: number }>>`
+      SELECT e."code" AS equipment, c."code" AS channel, count(*)::int AS n, sum(s."value")::float8 AS sum
+      FROM "Sample" s JOIN "Channel" c ON c."id" = s."channelId" JOIN "Equipment" e ON e."id" = c."equipmentId"
+      GROUP BY e."code", c."code"`;
+    const stored = new Map(rows.map((r) => [`${r.equipment}/${r.channel}`, r]));
+    for (const tally of report.channels) {
+      const row = stored.get(`${tally.equipment}/${tally.channel}`);
+      expect({ channel: `${tally.equipment}/${tally.channel}`, n: row?.n }).toEqual({ channel: `${tally.equipment}/${tally.channel}`, n: tally.generated });
+      expect(row!.sum).toBeCloseTo(tally.sum, 3);
+    }
+    expect(rows.length).toBe(report.channels.length);
+    // The API's own replies agree: stored + duplicates = sent, and stored = rows.
+    const storedByReplies = report.controllers.reduce((a, c) => a + c.samplesStored, 0);
+    const rowCount = rows.reduce((a, r) => a + r.n, 0);
+    expect(storedByReplies).toBe(rowCount);
+    expect(report.controllers.reduce((a, c) => a + c.samplesConflict, 0)).toBe(0);
+  });
+
+  it('records every batch with its four events, and the lab results due within the day', async () => {
+    const batches = await prisma.batch.findMany({ include: { loadEvents: true, labResults: true } });
+    expect(batches.map((b) => b.code).sort()).toEqual(loads.map((l) => l.code).sort());
+    for (const load of loads) {
+      const batch = batches.find((b) => b.code === load.code)!;
+      expect(batch.status).toBe('DONE');
+      const at = Object.fromEntries(batch.loadEvents.map((e) => [e.kind, e.at.getTime()]));
+      expect(at).toEqual({
+        CHARGED: startMs + load.chargedMs,
+        OUT_OF_FURNACE: startMs + load.outOfFurnaceMs,
+        INTO_BATH: startMs + load.intoBathMs,
+        OUT_OF_BATH: startMs + load.outOfBathMs,
+      });
+      const labDue = load.labMs <= DAY_MS;
+      const expectedResults = labDue ? 1 + (load.plan.lab.coreHardness !== undefined ? 1 : 0) + (load.plan.lab.retainedAusteniteVolPct !== undefined ? 1 : 0) : 0;
+      expect({ code: load.code, labResults: batch.labResults.length }).toEqual({ code: load.code, labResults: expectedResults });
+      expect(batch.scheduledHoldMin).toBe(load.scheduledHoldMin);
+    }
+  });
+
+  it('raises exactly the planted process-window deviations, and none on conforming batches', async () => {
+    const deviations = await prisma.deviation.findMany({ include: { batch: { select: { code: true } }, channel: { select: { code: true } } } });
+    const found = deviations
+      .filter((d) => d.status !== 'CLEARED')
+      .map((d) => `${d.batch?.code} ${d.rule}${d.channel ? `@${d.channel.code}` : ''}`)
+      .sort();
+    const expected = loads
+      .flatMap((l) => (l.plan.planted ? PROCESS_WINDOW_EXPECTATIONS[l.plan.planted] : []).map((e) => `${l.code} ${e.rule}${e.channel ? `@${e.channel}` : ''}`))
+      .sort();
+    console.log(`deviations raised: ${found.length} (planted ${expected.length})`);
+    expect(found).toEqual(expected);
+    // Each planted process-window problem shows at least once.
+    for (const problem of ['bath-creep', 'thermocouple-drift', 'short-hold'] as const) {
+      expect(loads.some((l) => l.plan.planted === problem && found.some((f) => f.startsWith(`${l.code} `)))).toBe(true);
+    }
+  });
+
+  it('raised no transient deviation on the way (nothing was opened and later cleared)', async () => {
+    const cleared = await prisma.deviation.findMany({ where: { status: 'CLEARED' }, include: { batch: { select: { code: true } } } });
+    expect(cleared.map((d) => `${d.batch?.code} ${d.rule}`)).toEqual([]);
+  });
+});
