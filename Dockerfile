@@ -16,6 +16,7 @@ COPY libs/compliance/package.json libs/compliance/
 COPY libs/contracts/package.json libs/contracts/
 COPY libs/db/package.json libs/db/
 COPY libs/metallurgy/package.json libs/metallurgy/
+COPY apps/line-sim/package.json apps/line-sim/
 RUN npm ci --no-audit --no-fund
 
 COPY apps ./apps
