@@ -18,7 +18,7 @@
  */
 import { adiMatrixCarbonWtPct, CALPHAD_SUBSTITUTIONALS, type ChemistryWtPct, type Element } from './chemistry.js';
 import { equilibriumFerriteFraction } from './cooling/quench.js';
-import { msSubstitutionalC, vanBohemenAlphaSubstitutionalPerK } from './finalState.js';
+import { vanBohemenAlphaSubstitutionalPerK, vanBohemenCarbonTermC } from './finalState.js';
 import { liBainiteFactor, liBainiteStartC, liFerriteFactor, liPearliteFactor } from './kinetics/li1998.js';
 import { inverseNormalCdf, latinHypercube, SeededRandom } from './random.js';
 import type { BatchSetup } from './setup.js';
@@ -159,10 +159,6 @@ function buildModel(setup: BatchSetup, key: string): BatchModel {
   const lhs = latinHypercube(n, dims, rng);
   // u(dim, member): member 0 is the nominal (median of every distribution).
   const u = (dim: number, member: number): number => (member === 0 ? 0.5 : lhs[dim][member - 1]);
-  const z = (dim: number, member: number): number => {
-    const v = inverseNormalCdf(u(dim, member));
-    return Math.max(-Z_CLIP, Math.min(Z_CLIP, v));
-  };
 
   const arr = () => new Float64Array(size);
   const m: MemberArrays = {
@@ -203,17 +199,35 @@ function buildModel(setup: BatchSetup, key: string): BatchModel {
   const D = perturbed.length;
   const mat = setup.material;
 
+  // Normal deviates per dimension, computed once (member 0 = the nominal: z = 0).
+  const zCols: Float64Array[] = [];
+  for (let d = 0; d < dims; d++) {
+    const col = new Float64Array(size);
+    for (let k = 1; k < size; k++) col[k] = Math.max(-Z_CLIP, Math.min(Z_CLIP, inverseNormalCdf(lhs[d][k - 1])));
+    zCols.push(col);
+  }
+  const z = (dim: number, member: number): number => zCols[dim][member];
+  const fpCalibration = Math.log(setup.calibration?.ferritePearliteTimeFactor ?? 1);
+  // Scratch chemistries, rewritten per member (no object per member).
+  const bulk: ChemistryWtPct = { ...bulkChem };
+  const eff: ChemistryWtPct = { ...chem };
+
   for (let k = 0; k < size; k++) {
-    const bulk: ChemistryWtPct = { ...bulkChem };
-    perturbed.forEach((el, i) => {
-      bulk[el] = Math.max(0, (bulkChem[el] ?? 0) + (sdChem[el] ?? 0) * z(i, k));
-    });
-    const eff = effectiveChemistry(setup, bulk);
-    if (isIron) eff.C = Math.max(0.2, (eff.C ?? 0) + MODEL_ERRORS.adiMatrixCarbonSdWtPct * z(D + 14, k));
-    t0Elements.forEach((el, i) => {
+    for (let i = 0; i < D; i++) {
+      const el = perturbed[i];
+      const v = Math.max(0, (bulkChem[el] ?? 0) + (sdChem[el] ?? 0) * z(i, k));
+      bulk[el] = v;
+      eff[el] = v;
+    }
+    if (isIron) {
+      eff.C = Math.max(0.2, adiMatrixCarbonWtPct(setup.austenitize.tempC, bulk) + MODEL_ERRORS.adiMatrixCarbonSdWtPct * z(D + 14, k));
+    }
+    for (let i = 0; i < t0Elements.length; i++) {
+      const el = t0Elements[i];
       m.t0ElementDelta[i][k] = (bulk[el] ?? 0) - (bulkChem[el] ?? 0);
-    });
-    m.carbonWtPct[k] = eff.C ?? 0;
+    }
+    const carbon = eff.C ?? 0;
+    m.carbonWtPct[k] = carbon;
     m.bulkCarbonWtPct[k] = bulk.C ?? 0;
     m.siWtPct[k] = bulk.Si ?? 0;
     m.mnWtPct[k] = bulk.Mn ?? 0;
@@ -229,17 +243,19 @@ function buildModel(setup: BatchSetup, key: string): BatchModel {
       MODEL_ERRORS.carbonInBainiticFerriteMeanWtPct + MODEL_ERRORS.carbonInBainiticFerriteSdWtPct * z(D + 5, k),
     );
     m.heatTransferZ[k] = z(D + 6, k);
-    const fpError = MODEL_ERRORS.ferritePearliteLnTimeSd * z(D + 7, k) + Math.log(setup.calibration?.ferritePearliteTimeFactor ?? 1);
+    const fpError = MODEL_ERRORS.ferritePearliteLnTimeSd * z(D + 7, k) + fpCalibration;
     m.ferriteLnFactor[k] = Math.log(nominalFc / liFerriteFactor(eff)) - fpError;
     m.pearliteLnFactor[k] = Math.log(nominalPc / liPearliteFactor(eff)) - fpError;
     const a1 = ae1C(eff);
     m.ae3ShiftC[k] = Math.max(a1, ae3C(eff)) - nominalAe3;
     m.ae1ShiftC[k] = a1 - nominalAe1;
-    m.ferriteEq[k] = equilibriumFerriteFraction(eff.C ?? 0);
+    m.ferriteEq[k] = equilibriumFerriteFraction(carbon);
     m.filmCoefficient[k] = Math.max(0.02, MODEL_ERRORS.filmCoefficientMean + MODEL_ERRORS.filmCoefficientSd * z(D + 8, k));
     const msError = MODEL_ERRORS.residualMsSdC * z(D + 9, k);
-    m.msSubstitutionalC[k] = msSubstitutionalC(eff) + msError;
-    m.msBulkC[k] = msC(eff, 'van-bohemen') + msError;
+    const msBulk = msC(eff, 'van-bohemen');
+    // van Bohemen without its carbon term: the same formula as msSubstitutionalC(), without building an object
+    m.msSubstitutionalC[k] = msBulk + vanBohemenCarbonTermC(carbon) + msError;
+    m.msBulkC[k] = msBulk + msError;
     m.alphaSubstitutionalPerK[k] = vanBohemenAlphaSubstitutionalPerK(eff);
     m.alphaFactor[k] = Math.max(0.5, 1 + MODEL_ERRORS.alphaRelativeSd * z(D + 10, k));
     m.hardnessLnError[k] = MODEL_ERRORS.hardnessLnSd[mat] * z(D + 11, k);

@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { parsePredictInput, parseT0Input } from './input.js';
+import { InputError, parsePredictInput, parseT0Input, requirePredictInput } from './input.js';
 
 const good = {
   material: 'steel',
@@ -54,6 +54,18 @@ describe('predict input validation', () => {
     const issue = firstIssue(raw);
     expect(issue.path).toBe(path);
     expect(issue.message).toMatch(message);
+  });
+
+  it('requirePredictInput throws an InputError carrying every issue', () => {
+    expect(requirePredictInput(good).material).toBe('steel');
+    try {
+      requirePredictInput({ ...good, grainSizeAstm: -1, agitation: 'none' });
+      throw new Error('did not throw');
+    } catch (e) {
+      expect(e).toBeInstanceOf(InputError);
+      expect((e as InputError).issues.map((i) => i.path)).toEqual(['grainSizeAstm', 'agitation']);
+      expect((e as Error).message).toMatch(/^grainSizeAstm: must be at least 0/);
+    }
   });
 
   it('rejects a non-object and a ductile iron with steel carbon', () => {

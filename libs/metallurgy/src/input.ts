@@ -27,11 +27,19 @@ export const DEFAULT_AMBIENT_C = 20;
 export const MAX_BATH_SAMPLES = 500_000;
 export const MAX_ENSEMBLE_SAMPLES = 20_000;
 
+/** Thrown by requirePredictInput; `issues` carry the field paths (an HTTP layer maps them to a 4xx). */
 export class InputError extends Error {
   constructor(readonly issues: InputIssue[]) {
     super(issues.map((i) => `${i.path}: ${i.message}`).join('; '));
     this.name = 'InputError';
   }
+}
+
+/** parsePredictInput that throws InputError instead of returning the issues. */
+export function requirePredictInput(raw: unknown): PredictInput {
+  const parsed = parsePredictInput(raw);
+  if ('issues' in parsed) throw new InputError(parsed.issues);
+  return parsed.input;
 }
 
 type Obj = Record<string, unknown>;

@@ -115,7 +115,6 @@ export function finalizeBatch(state: BathState, opts: { calibration?: Calibratio
   const setup = model.setup;
   const quench = state.quench;
   const table = progress.t0Table;
-  const m = model.members;
   const n = model.size;
   const mq = memberQuench(model, quench);
   const isIron = setup.material === 'ductile-iron';

@@ -49,6 +49,12 @@ export class SeededRandom {
   }
 }
 
+// Acklam's coefficients (module-level: the function runs tens of thousands of times per ensemble build).
+const ACKLAM_A = [-39.69683028665376, 220.9460984245205, -275.9285104469687, 138.357751867269, -30.66479806614716, 2.506628277459239];
+const ACKLAM_B = [-54.47609879822406, 161.5858368580409, -155.6989798598866, 66.80131188771972, -13.28068155288572];
+const ACKLAM_C = [-0.007784894002430293, -0.3223964580411365, -2.400758277161838, -2.549732539343734, 4.374664141464968, 2.938163982698783];
+const ACKLAM_D = [0.007784695709041462, 0.3224671290700398, 2.445134137142996, 3.754408661907416];
+
 /** Inverse of the standard normal CDF: Acklam's rational approximation (relative error < 1.15e−9). */
 export function inverseNormalCdf(p: number): number {
   if (!(p > 0 && p < 1)) {
@@ -56,24 +62,22 @@ export function inverseNormalCdf(p: number): number {
     if (p === 1) return Infinity;
     return Number.NaN;
   }
-  const a = [-39.69683028665376, 220.9460984245205, -275.9285104469687, 138.357751867269, -30.66479806614716, 2.506628277459239];
-  const b = [-54.47609879822406, 161.5858368580409, -155.6989798598866, 66.80131188771972, -13.28068155288572];
-  const c = [-0.007784894002430293, -0.3223964580411365, -2.400758277161838, -2.549732539343734, 4.374664141464968, 2.938163982698783];
-  const d = [0.007784695709041462, 0.3224671290700398, 2.445134137142996, 3.754408661907416];
+  const a = ACKLAM_A;
+  const b = ACKLAM_B;
+  const c = ACKLAM_C;
+  const d = ACKLAM_D;
   const pLow = 0.02425;
-  let x: number;
   if (p < pLow) {
     const q = Math.sqrt(-2 * Math.log(p));
-    x = (((((c[0] * q + c[1]) * q + c[2]) * q + c[3]) * q + c[4]) * q + c[5]) / ((((d[0] * q + d[1]) * q + d[2]) * q + d[3]) * q + 1);
-  } else if (p <= 1 - pLow) {
+    return (((((c[0] * q + c[1]) * q + c[2]) * q + c[3]) * q + c[4]) * q + c[5]) / ((((d[0] * q + d[1]) * q + d[2]) * q + d[3]) * q + 1);
+  }
+  if (p <= 1 - pLow) {
     const q = p - 0.5;
     const r = q * q;
-    x = ((((((a[0] * r + a[1]) * r + a[2]) * r + a[3]) * r + a[4]) * r + a[5]) * q) / (((((b[0] * r + b[1]) * r + b[2]) * r + b[3]) * r + b[4]) * r + 1);
-  } else {
-    const q = Math.sqrt(-2 * Math.log(1 - p));
-    x = -(((((c[0] * q + c[1]) * q + c[2]) * q + c[3]) * q + c[4]) * q + c[5]) / ((((d[0] * q + d[1]) * q + d[2]) * q + d[3]) * q + 1);
+    return ((((((a[0] * r + a[1]) * r + a[2]) * r + a[3]) * r + a[4]) * r + a[5]) * q) / (((((b[0] * r + b[1]) * r + b[2]) * r + b[3]) * r + b[4]) * r + 1);
   }
-  return x;
+  const q = Math.sqrt(-2 * Math.log(1 - p));
+  return -(((((c[0] * q + c[1]) * q + c[2]) * q + c[3]) * q + c[4]) * q + c[5]) / ((((d[0] * q + d[1]) * q + d[2]) * q + d[3]) * q + 1);
 }
 
 /** Complementary error function (Numerical Recipes erfcc, fractional error < 1.2e−7 everywhere). */
@@ -107,7 +111,7 @@ export function latinHypercube(n: number, dims: number, rng: SeededRandom): Floa
     for (let i = 0; i < n; i++) col[i] = (i + rng.nextUniform()) / n;
     // Fisher–Yates shuffle.
     for (let i = n - 1; i > 0; i--) {
-      const j = rng.nextInt(i + 1);
+      const j = Math.floor(rng.nextUniform() * (i + 1));
       const tmp = col[i];
       col[i] = col[j];
       col[j] = tmp;

@@ -13,7 +13,7 @@
  *                     bainite never reverts, so a rise in temperature stops growth (stasis) without undoing it.
  *   austenite carbon  by mass balance (§5.1), which at v = L gives exactly C_T0′: the "stop when x_γ ≥ x_T0′" rule.
  *
- * Time integration: samples are joined linearly and cut into cells on a fixed absolute grid (10 s by default).
+ * Time integration: samples are joined linearly and cut into cells on a fixed absolute grid (20 s by default).
  * Within a cell, ∫ r(T(t)) dt is integrated exactly for the piecewise-linear path up to second order in the
  * temperature deviation from the cell mean: ∫r ≈ r(T̄)·Δt + ½ r''(T̄)·∫(T − T̄)² dt (the first-order term vanishes
  * by construction). When the temperature spans more than SMOOTH_CELL_RANGE_C inside a cell (the centre still
@@ -29,7 +29,7 @@ import { KELVIN, LI_EXTENT_TABLE, LI_Q_OVER_R_K, LI_S_OF_ONE } from './li1998.js
 import { ensureT0Table, type T0Table } from './t0Table.js';
 
 export const BATH_STATE_FORMAT = 'ausline.bath-state/1';
-export const DEFAULT_CELL_S = 10;
+export const DEFAULT_CELL_S = 20;
 /** A cell whose temperatures span more than this is integrated per sample segment. */
 export const SMOOTH_CELL_RANGE_C = 4;
 /** Time to 95 % of the ceiling is only defined where the ceiling is at least this. */
