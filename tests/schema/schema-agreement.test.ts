@@ -406,6 +406,104 @@ describe('every model round-trips through the generated client', () => {
     });
     record('SuspectTrigger', trigger, await prisma.suspectTrigger.findUniqueOrThrow({ where: { dedupKey: `failed:${survey.id}` } }));
 
+    // Drift across lots and lab calibration (migration 20261201003000_drift_calibration, PC2)
+    await prisma.productSpecVersion.update({ where: { id: specVersion.id }, data: { driftCharts: { phaseILots: 30 } } });
+    const specVersionWithDrift = await prisma.productSpecVersion.findUniqueOrThrow({ where: { id: specVersion.id } });
+    expect(specVersionWithDrift.driftCharts).toEqual({ phaseILots: 30 });
+    record('ProductSpecVersion', specVersionWithDrift, await prisma.productSpecVersion.findUniqueOrThrow({ where: { specId_version: { specId: spec.id, version: 1 } } }));
+
+    const driftValue = await prisma.driftValue.create({
+      data: {
+        batchId: batch.id,
+        productSpecId: spec.id,
+        lineId: line.id,
+        metric: 'bath-mean-temp-hold',
+        value: 371.125,
+        unit: '°C',
+        orderAt: t('2026-12-01T10:00:10.250Z'),
+        source: { readings: 540, coverage: 0.998 },
+      },
+    });
+    record('DriftValue', driftValue, await prisma.driftValue.findUniqueOrThrow({ where: { batchId_metric: { batchId: batch.id, metric: 'bath-mean-temp-hold' } } }));
+
+    const driftLimits = await prisma.driftLimits.create({
+      data: {
+        productSpecId: spec.id,
+        lineId: line.id,
+        metric: 'bath-mean-temp-hold',
+        version: 1,
+        source: 'phase-i',
+        centre: 370.5,
+        sigma: 1.25,
+        limits: { version: 1, centre: 370.5, sigma: 1.25 },
+        specVersionId: specVersion.id,
+        reason: 'Phase I estimated from the first 25 lots',
+      },
+    });
+    record(
+      'DriftLimits',
+      driftLimits,
+      await prisma.driftLimits.findUniqueOrThrow({ where: { productSpecId_lineId_metric_version: { productSpecId: spec.id, lineId: line.id, metric: 'bath-mean-temp-hold', version: 1 } } }),
+    );
+    await expect(prisma.driftLimits.create({ data: { ...driftLimits, id: undefined, version: 2, source: 'guessed' } })).rejects.toThrow();
+
+    const driftChart = await prisma.driftChart.create({
+      data: {
+        productSpecId: spec.id,
+        lineId: line.id,
+        metric: 'bath-mean-temp-hold',
+        status: 'monitoring',
+        limitsVersion: 1,
+        lotCount: 40,
+        summary: { episodes: [] },
+        evaluatedAt: t('2026-12-01T10:30:00.001Z'),
+      },
+    });
+    record(
+      'DriftChart',
+      driftChart,
+      await prisma.driftChart.findUniqueOrThrow({ where: { productSpecId_lineId_metric: { productSpecId: spec.id, lineId: line.id, metric: 'bath-mean-temp-hold' } } }),
+    );
+
+    const outcome = await prisma.batchOutcome.create({ data: { batchId: batch.id, inputs: { predictionId: prediction.id }, evaluatedAt: t('2026-12-01T10:31:00.002Z') } });
+    record('BatchOutcome', outcome, await prisma.batchOutcome.findUniqueOrThrow({ where: { batchId: batch.id } }));
+
+    const comparison = await prisma.labComparison.create({
+      data: {
+        labResultId: labResult.id,
+        batchId: batch.id,
+        productSpecId: spec.id,
+        quantity: 'hardnessHV',
+        measured: 712.5,
+        measuredDetail: { scale: 'HRC', readings: 3 },
+        predictionId: prediction.id,
+        predictionVersion: 1,
+        rawP05: 650,
+        rawP50: 690.5,
+        rawP95: 730,
+        bandP05: 676,
+        bandP50: 690.5,
+        bandP95: 705,
+        calibrationApplied: true,
+        calibrationBefore: { n: 5, bias: 2.5, sd: 8 },
+        calibrationAfter: { n: 6, bias: 5, sd: 9.5 },
+        residual: 22,
+        verdict: 'above',
+        firstComparedAt: t('2026-12-01T14:00:01.003Z'),
+      },
+    });
+    record('LabComparison', comparison, await prisma.labComparison.findUniqueOrThrow({ where: { labResultId_quantity: { labResultId: labResult.id, quantity: 'hardnessHV' } } }));
+    await expect(prisma.labComparison.create({ data: { ...comparison, id: undefined, quantity: 'tensileMPa', verdict: 'maybe' } })).rejects.toThrow();
+
+    const productCalibration = await prisma.productCalibration.create({
+      data: { productSpecId: spec.id, quantity: 'hardnessHV', method: 'nig-discounted', n: 6, bias: 5, sd: 9.5, dof: 6.2, kappa: 7.1, inForce: true, state: { n: 6 } },
+    });
+    record(
+      'ProductCalibration',
+      productCalibration,
+      await prisma.productCalibration.findUniqueOrThrow({ where: { productSpecId_quantity: { productSpecId: spec.id, quantity: 'hardnessHV' } } }),
+    );
+
     expect(furnace.kind).toBe('FURNACE');
     for (const [model, created] of written) expect(readBack.get(model), model).toEqual(created);
   });

@@ -4,3 +4,7 @@ export { evaluateProcessWindow } from './process-window/evaluate.js';
 export { DEFAULT_INGEST_LATENCY_ALLOWANCE_S } from './process-window/context.js';
 export * from './drift/index.js';
 export * from './pyrometry/index.js';
+export * from './calibration/index.js';
+export * from './lots/index.js';
+export * from './verdicts/index.js';
+export * from './predictive/index.js';

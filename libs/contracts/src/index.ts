@@ -5,3 +5,4 @@ export * from './ingest.js';
 export * from './admin.js';
 export * from './config.js';
 export * from './prediction.js';
+export * from './drift.js';

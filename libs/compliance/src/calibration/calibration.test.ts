@@ -1,0 +1,158 @@
+import { describe, expect, it } from 'vitest';
+import { createSeededRandom } from '../drift/random.js';
+import { bandSd, calibrateBand, engineBandCalibration, rawPredictedBand, Z95 } from './bands.js';
+import { lnGamma, normalQuantile, regularizedIncompleteBeta, studentTCdf, studentTQuantile } from './distributions.js';
+import { convertHardness, labObservations, meanHardnessIn } from './lab.js';
+import { startCalibration, summarizeCalibration, updateCalibration } from './running.js';
+import { judgeSequence } from './sequence.js';
+
+describe('distributions', () => {
+  it('ln Γ matches exact values', () => {
+    // Γ(n) = (n − 1)! and Γ(½) = √π (exact identities, A&S 6.1.6 and 6.1.8).
+    expect(lnGamma(1)).toBeCloseTo(0, 13);
+    expect(lnGamma(5)).toBeCloseTo(Math.log(24), 13);
+    expect(lnGamma(0.5)).toBeCloseTo(0.5 * Math.log(Math.PI), 13);
+    expect(lnGamma(20.5)).toBeCloseTo(Math.log(Math.sqrt(Math.PI)) + Array.from({ length: 20 }, (_, i) => Math.log(i + 0.5)).reduce((a, b) => a + b), 11);
+  });
+
+  it('incomplete beta: closed forms I_x(1, b) = 1 − (1 − x)^b and I_x(a, 1) = x^a', () => {
+    // Exact identities of the regularised incomplete beta (A&S 26.5.x special cases).
+    for (const x of [0.01, 0.3, 0.77, 0.999]) {
+      expect(regularizedIncompleteBeta(x, 1, 3.5)).toBeCloseTo(1 - (1 - x) ** 3.5, 12);
+      expect(regularizedIncompleteBeta(x, 2.25, 1)).toBeCloseTo(x ** 2.25, 12);
+    }
+  });
+
+  it('Student t: ν = 1 is the Cauchy distribution, ν = 2 has a closed form', () => {
+    // Exact: Cauchy F(t) = ½ + atan(t)/π; ν = 2: F(t) = ½ + t/(2√(2 + t²)).
+    for (const t of [-7, -1.3, 0.4, 2.2, 12]) {
+      expect(studentTCdf(t, 1)).toBeCloseTo(0.5 + Math.atan(t) / Math.PI, 12);
+      expect(studentTCdf(t, 2)).toBeCloseTo(0.5 + t / (2 * Math.sqrt(2 + t * t)), 12);
+    }
+  });
+
+  it('quantiles reproduce the printed t table (one-sided 0.95) and z₀.₉₅', () => {
+    // NIST/SEMATECH e-Handbook of Statistical Methods §1.3.6.7.2 "Critical values of the Student's t
+    // distribution", column 0.05 (upper tail), printed to 3 decimals: ν = 1 6.314, 2 2.920, 5 2.015, 10 1.812,
+    // 20 1.725, 30 1.697, 100 1.660; normal 1.645 (§1.3.6.7.1).
+    const table: [number, number][] = [[1, 6.314], [2, 2.92], [5, 2.015], [10, 1.812], [20, 1.725], [30, 1.697], [100, 1.66]];
+    for (const [dof, t] of table) expect(Math.abs(studentTQuantile(0.95, dof) - t)).toBeLessThan(0.0006);
+    expect(Math.abs(normalQuantile(0.95) - 1.645)).toBeLessThan(0.0006);
+    expect(Z95).toBeCloseTo(1.6448536, 6);
+    expect(studentTQuantile(0.05, 7.3)).toBeCloseTo(-studentTQuantile(0.95, 7.3), 10);
+    expect(studentTCdf(studentTQuantile(0.975, 3.7), 3.7)).toBeCloseTo(0.975, 10);
+  });
+});
+
+describe('running calibration: normal–inverse-gamma update', () => {
+  it('without discounting equals the closed-form conjugate posterior', () => {
+    // Closed form after n observations with prior (m0 = 0, κ0, ν0, ss0) (Murphy 2007, "Conjugate Bayesian
+    // analysis of the Gaussian distribution", normal–gamma posterior, from memory):
+    //   κn = κ0 + n, mn = n·x̄/κn, νn = ν0 + n, ssn = ss0 + Σ(x − x̄)² + κ0·n·x̄²/κn.
+    const xs = [12.5, -3, 7.25, 22, 4, 9.5, -1];
+    let s = startCalibration(10, { discount: 1, priorSpreadWeight: 2 });
+    for (const x of xs) s = updateCalibration(s, x);
+    const n = xs.length;
+    const mean = xs.reduce((a, b) => a + b) / n;
+    const sxx = xs.reduce((a, x) => a + (x - mean) ** 2, 0);
+    expect(s.kappa).toBe(2 + n);
+    expect(s.bias).toBeCloseTo((n * mean) / (2 + n), 12);
+    expect(s.dof).toBe(2 + n);
+    expect(s.scaledSumSquares).toBeCloseTo(2 * 100 + sxx + (2 * n * mean * mean) / (2 + n), 9);
+  });
+
+  it('with discounting tracks a bias that changes, and its effective weight tends to 1/(1 − δ) = 20', () => {
+    const rng = createSeededRandom(42);
+    let s = startCalibration(40);
+    for (let i = 0; i < 60; i++) s = updateCalibration(s, 30 + 10 * rng.nextNormal());
+    const before = summarizeCalibration(s);
+    for (let i = 0; i < 60; i++) s = updateCalibration(s, -10 + 10 * rng.nextNormal());
+    const after = summarizeCalibration(s);
+    console.log(`discounted calibration: bias ${before.bias.toFixed(1)} → ${after.bias.toFixed(1)} (true 30 → −10), sd ${after.sd.toFixed(1)} (true 10), κ ${after.kappa.toFixed(2)}`);
+    expect(before.bias).toBeGreaterThan(24);
+    expect(after.bias).toBeLessThan(-5);
+    expect(after.sd).toBeGreaterThan(6);
+    expect(after.sd).toBeLessThan(15);
+    expect(after.kappa).toBeCloseTo(20, 1);
+  });
+
+  it('refuses bad input', () => {
+    expect(() => startCalibration(0)).toThrow(/priorSd/);
+    expect(() => updateCalibration(startCalibration(1), Number.NaN)).toThrow(/residual/);
+  });
+});
+
+describe('calibrated bands', () => {
+  const raw = { p05: 461, p50: 573, p95: 676 }; // the worked example's hardness band (libs/metallurgy README)
+
+  it('the raw band stands until the minimum number of results; then it shifts by the bias and takes the lab spread', () => {
+    let s = startCalibration(bandSd(raw));
+    expect(calibrateBand(raw, s).applied).toBe(false);
+    const residuals = [-22, -31, -18, -27, -25, -20, -29, -24];
+    for (const r of residuals) s = updateCalibration(s, r);
+    const c = calibrateBand(raw, s);
+    expect(c.applied).toBe(true);
+    const sum = summarizeCalibration(s);
+    expect(c.band.p50).toBeCloseTo(573 + sum.bias, 9);
+    expect(c.band.p95 - c.band.p50).toBeCloseTo(studentTQuantile(0.95, sum.dof) * sum.sd * Math.sqrt(1 + 1 / sum.kappa), 9);
+    console.log(`calibrated hardness band: raw ${raw.p05}–${raw.p95} HV (width ${raw.p95 - raw.p05}) → ${c.band.p05.toFixed(0)}–${c.band.p95.toFixed(0)} HV (width ${(c.band.p95 - c.band.p05).toFixed(0)}), p50 ${raw.p50} → ${c.band.p50.toFixed(1)}`);
+    expect(c.band.p95 - c.band.p05).toBeLessThan(raw.p95 - raw.p05);
+    expect(c.band.p50).toBeLessThan(raw.p50 - 10);
+  });
+
+  it('the engine-hook form carries the bias, and extra spread only when the calibrated band is wider', () => {
+    let s = startCalibration(bandSd(raw));
+    for (const r of [-20, -25, -22, -21]) s = updateCalibration(s, r);
+    const narrow = engineBandCalibration(raw, s)!;
+    expect(narrow.bias).toBeCloseTo(summarizeCalibration(s).bias, 12);
+    expect(narrow.sd).toBe(0);
+    let w = startCalibration(5);
+    for (const r of [-200, 150, -180, 210, -160]) w = updateCalibration(w, r);
+    const wide = engineBandCalibration({ p05: 560, p50: 573, p95: 586 }, w)!;
+    expect(wide.sd).toBeGreaterThan(0);
+  });
+
+  it('retained austenite band = film + blocky percentiles; hardness from bands, else properties', () => {
+    const result = { bands: { filmAustenite: { p05: 0.05, p50: 0.07, p95: 0.09 }, blockyAustenite: { p05: 0.1, p50: 0.16, p95: 0.22 } }, properties: { hardnessHV: { p05: 400, p50: 420, p95: 440 } } };
+    const ra = rawPredictedBand(result, 'retainedAusteniteFraction')!;
+    expect(ra.band.p05).toBeCloseTo(0.15, 12);
+    expect(ra.band.p95).toBeCloseTo(0.31, 12);
+    expect(rawPredictedBand(result, 'hardnessHV')!.from).toBe('properties.hardnessHV');
+    expect(rawPredictedBand(result, 'tensileMPa')).toBeNull();
+    expect(rawPredictedBand({ properties: { hardnessHV: { p05: null, p50: 1, p95: 2 } } }, 'hardnessHV')).toBeNull();
+  });
+});
+
+describe('lab observations', () => {
+  it('converts hardness reading by reading through the E140 rows; refuses readings off the table', () => {
+    // ASTM E140 rows carried by libs/metallurgy: HRC 50 = 513 HV, HRC 55 = 595 HV (metallurgy.md §6.4 [F2]).
+    expect(convertHardness(50, 'HRC', 'HV')).toBeCloseTo(513, 9);
+    const m = meanHardnessIn({ scale: 'HRC', values: { readings: [50, 55] } }, 'HV')!;
+    expect(m.value).toBeCloseTo((513 + 595) / 2, 9);
+    expect(m.meanInOwnScale).toBe(52.5);
+    const obs = labObservations({ id: 'a', kind: 'HARDNESS', scale: 'HRC', values: { readings: [18, 50] } });
+    expect(obs[0]!.comparable).toBe(false);
+    const ra = labObservations({ id: 'b', kind: 'RETAINED_AUSTENITE', scale: null, values: { volumePct: 23.5, method: 'XRD' } });
+    expect(ra[0]).toMatchObject({ quantity: 'retainedAusteniteFraction', comparable: true, measured: 0.235 });
+    expect(labObservations({ id: 'c', kind: 'TENSILE', scale: null, values: { rmMPa: 1180, rp02MPa: 900, elongationPct: 8 } })[0]).toMatchObject({ measured: 1180 });
+    expect(labObservations({ id: 'd', kind: 'IMPACT', scale: null, values: {} })).toEqual([]);
+  });
+});
+
+describe('judgeSequence: prequential judging', () => {
+  it('a result never calibrates its own band; an outlier against a narrowed band is caught', () => {
+    const raw = { p05: 480, p50: 560, p95: 640 };
+    const obs = [-12, -18, -15, -14, -16, -13, -17, -15, 40].map((r, i) => ({ key: `k${i}`, measured: 560 + r, raw }));
+    const { judgements, final } = judgeSequence(obs, { quantity: 'hardnessHV' });
+    expect(judgements[0]!.judgedWith!.applied).toBe(false);
+    expect(judgements.slice(0, 8).every((j) => j.comparison!.verdict === 'inside')).toBe(true);
+    // +40 HV is inside the raw band (±80) but far outside the calibrated one (bias ≈ −15, spread ≈ 2–3).
+    expect(judgements[8]!.comparison!.verdict).toBe('above');
+    expect(judgements[8]!.judgedWith!.applied).toBe(true);
+    expect(final!.n).toBe(9);
+    // Without a prediction the observation is skipped and the state carries over.
+    const skip = judgeSequence([{ key: 'x', measured: 1, raw: null }], { quantity: 'hardnessHV' });
+    expect(skip.judgements[0]!.comparison).toBeNull();
+    expect(skip.final).toBeNull();
+  });
+});
