@@ -255,7 +255,8 @@ export function resolveReference(record: Pick<EquipmentRecord, 'standard' | 'rev
     };
   }
   const merged = applyReferenceOverlay(base, overlay.data as ReferenceOverlay);
-  if (!merged.ok) return { ok: false, errors: merged.errors.map((e) => ({ path: `customerOverlay.${e.path}`, message: e.message })) };
+  // Paths in the API's dotted form (customerOverlay.entries.0.value), like every other 4xx.
+  if (!merged.ok) return { ok: false, errors: merged.errors.map((e) => ({ path: `customerOverlay.${e.path.replace(/\[(\d+)\]/g, '.$1')}`, message: e.message })) };
   return { ok: true, reference: merged.reference };
 }
 
