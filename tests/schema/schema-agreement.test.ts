@@ -445,7 +445,11 @@ describe('every model round-trips through the generated client', () => {
       driftLimits,
       await prisma.driftLimits.findUniqueOrThrow({ where: { productSpecId_lineId_metric_version: { productSpecId: spec.id, lineId: line.id, metric: 'bath-mean-temp-hold', version: 1 } } }),
     );
-    await expect(prisma.driftLimits.create({ data: { ...driftLimits, id: undefined, version: 2, source: 'guessed' } })).rejects.toThrow();
+    // CHECK constraints (not expressible in schema.prisma): the limits source and the comparison verdict vocabularies.
+    await expect(
+      db.pool.query(`INSERT INTO "DriftLimits" ("productSpecId","lineId","metric","version","source","centre","sigma","limits","specVersionId","reason")
+                     VALUES ($1,$2,'bath-mean-temp-hold',2,'guessed',1,1,'{}',$3,'x')`, [spec.id, line.id, specVersion.id]),
+    ).rejects.toThrow(/DriftLimits_source_check/);
 
     const driftChart = await prisma.driftChart.create({
       data: {
@@ -493,7 +497,10 @@ describe('every model round-trips through the generated client', () => {
       },
     });
     record('LabComparison', comparison, await prisma.labComparison.findUniqueOrThrow({ where: { labResultId_quantity: { labResultId: labResult.id, quantity: 'hardnessHV' } } }));
-    await expect(prisma.labComparison.create({ data: { ...comparison, id: undefined, quantity: 'tensileMPa', verdict: 'maybe' } })).rejects.toThrow();
+    await expect(
+      db.pool.query(`INSERT INTO "LabComparison" ("labResultId","batchId","productSpecId","quantity","measuredDetail","verdict","firstComparedAt")
+                     VALUES ($1,$2,$3,'tensileMPa','{}','maybe',now())`, [labResult.id, batch.id, spec.id]),
+    ).rejects.toThrow(/LabComparison_verdict_check/);
 
     const productCalibration = await prisma.productCalibration.create({
       data: { productSpecId: spec.id, quantity: 'hardnessHV', method: 'nig-discounted', n: 6, bias: 5, sd: 9.5, dof: 6.2, kappa: 7.1, inForce: true, state: { n: 6 } },

@@ -46,12 +46,15 @@ export function predictionBand(result: unknown, quantity: string): Band | null {
 
 /**
  * The raw (uncalibrated) predicted band of a quantity from a Prediction.result (the `ausline predict` shape).
- * Retained austenite after cooling = film + blocky austenite; the engine bands them separately, so the sum of
- * their percentiles is used: exact for the median only if both move together, and a conservative (wider) band
- * otherwise, since the sum of two quantiles is the quantile of the sum when the members are comonotonic.
+ * Retained austenite after cooling = film + blocky austenite: the engine's own `bands.retainedAusteniteFraction`
+ * (summed per ensemble member) when the result has it; for older results the sum of the film and blocky
+ * percentiles, exact only if both move together and otherwise a conservative (wider) band, since the sum of
+ * two quantiles is the quantile of the sum when the members are comonotonic.
  */
 export function rawPredictedBand(result: unknown, quantity: CalibratedQuantity): { band: Band; from: string } | null {
   if (quantity === 'retainedAusteniteFraction') {
+    const own = bandAt(result, ['bands', 'retainedAusteniteFraction']);
+    if (own) return { band: own, from: 'bands.retainedAusteniteFraction' };
     const film = predictionBand(result, 'filmAustenite');
     const blocky = predictionBand(result, 'blockyAustenite');
     if (!film || !blocky) return null;

@@ -117,6 +117,9 @@ describe('calibrated bands', () => {
     const ra = rawPredictedBand(result, 'retainedAusteniteFraction')!;
     expect(ra.band.p05).toBeCloseTo(0.15, 12);
     expect(ra.band.p95).toBeCloseTo(0.31, 12);
+    expect(ra.from).toBe('bands.filmAustenite + bands.blockyAustenite');
+    const own = rawPredictedBand({ bands: { ...result.bands, retainedAusteniteFraction: { p05: 0.18, p50: 0.23, p95: 0.28 } } }, 'retainedAusteniteFraction')!;
+    expect(own).toEqual({ band: { p05: 0.18, p50: 0.23, p95: 0.28 }, from: 'bands.retainedAusteniteFraction' });
     expect(rawPredictedBand(result, 'hardnessHV')!.from).toBe('properties.hardnessHV');
     expect(rawPredictedBand(result, 'tensileMPa')).toBeNull();
     expect(rawPredictedBand({ properties: { hardnessHV: { p05: null, p50: 1, p95: 2 } } }, 'hardnessHV')).toBeNull();
