@@ -1,0 +1,19 @@
+import { readFileSync } from 'node:fs';
+import { describe, expect, it } from 'vitest';
+import { configTableMarkdown } from '../../scripts/config-table.js';
+
+const readme = readFileSync(new URL('../../README.md', import.meta.url), 'utf8');
+
+describe('README', () => {
+  it('carries the configuration table generated from CONFIG_VARIABLES (run scripts/config-table.ts to refresh it)', () => {
+    const start = readme.indexOf('<!-- config-table:start -->');
+    const end = readme.indexOf('<!-- config-table:end -->');
+    expect(start, 'config-table markers').toBeGreaterThan(-1);
+    expect(readme.slice(start + '<!-- config-table:start -->'.length, end).trim()).toBe(configTableMarkdown());
+  });
+
+  it('gives the test command that .ci/run calls', () => {
+    expect(readme).toContain('npm ci && npm test');
+    expect(readFileSync(new URL('../../.ci/run', import.meta.url), 'utf8')).toMatch(/npm test/);
+  });
+});
