@@ -210,6 +210,33 @@ describe('a failed calibration looks back', () => {
     expect((await http.post(`/v1/pyrometry/sensors/${sensor.id}/calibrations`, { certificateRef: 'BAD', calibratedAt: iso(NOW - 10 * D), points: [{ atC: 300, correctionC: 1 }] }, admin.headers)).status).toBe(409);
     expect(await prisma.deviation.count({ where: { rule: 'suspect-product', lineId: plant.lineId } })).toBe(2);
   });
+  it('with no good certificate on record, every load on the equipment up to the failure is suspect', async () => {
+    const plant = await seedPlant(prisma);
+    ok(await put(`/v1/equipment/${plant.bathId}/pyrometry`, record()), 201);
+    const loads = [await loadOn(plant, 'bath', NOW - 30 * D, NOW - 30 * D + H), await loadOn(plant, 'bath', NOW - 3 * D, null)];
+    const later = await loadOn(plant, 'bath', NOW - 1 * D, NOW - 1 * D + H);
+    const first = ok(
+      await http.post(
+        '/v1/pyrometry/sensors',
+        {
+          serial: `S${tag()}`,
+          equipmentId: plant.bathId,
+          channelId: plant.tcIds[0],
+          use: 'control',
+          thermocoupleType: 'K',
+          installedAt: iso(NOW - 40 * D),
+          calibration: { certificateRef: 'FIRST', calibratedAt: iso(NOW - 2 * D), points: [{ atC: 300, correctionC: -2.5 }] },
+        },
+        admin.headers,
+      ),
+      201,
+    );
+    expect(first.calibration.check.verdict).toBe('fail');
+    expect(first.calibration.suspect.window).toEqual({ afterExclusive: null, untilInclusive: iso(NOW - 2 * D) });
+    // The load still in the bath (no OUT_OF_BATH yet) is in process at the failure: suspect too.
+    expect(first.calibration.suspect.batches.map((b: { batchId: string }) => b.batchId)).toEqual(loads);
+    expect(await prisma.deviation.count({ where: { rule: 'suspect-product', batchId: later } })).toBe(0);
+  });
 });
 
 describe('a survey passed late', () => {
