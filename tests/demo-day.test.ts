@@ -10,42 +10,25 @@
  * All plant data are invented (apps/line-sim/src/plant.ts).
  */
 import { beforeAll, describe, expect, it } from 'vitest';
-import { ALL_HEATS } from '../apps/line-sim/src/plant.js';
-import { DEMO_DAY, PROCESS_WINDOW_EXPECTATIONS, ROUTINE } from '../apps/line-sim/src/scenario.js';
-import { buildSchedule } from '../apps/line-sim/src/schedule.js';
-import { setupDemoPlant } from '../apps/line-sim/src/setup.js';
-import { Simulator, type SimReport } from '../apps/line-sim/src/simulator.js';
+import { DEMO_DAY, PROCESS_WINDOW_EXPECTATIONS } from '../apps/line-sim/src/scenario.js';
+import type { ScheduledLoad } from '../apps/line-sim/src/schedule.js';
+import type { SimReport } from '../apps/line-sim/src/simulator.js';
+import { runDemoDay } from '../apps/line-sim/test/run-demo-day.js';
 import { startService } from '../apps/line-sim/test/service-harness.js';
 
 const service = await startService('demo-day');
 const prisma = service.db.prisma;
-
 const DAY_MS = DEMO_DAY.durationMin * 60_000;
-// The day ends on the last whole minute: accelerated plant time must stay behind the wall clock.
-const startMs = Math.floor(Date.now() / 60_000) * 60_000 - DAY_MS;
-const schedule = buildSchedule(DEMO_DAY, ROUTINE, { startMs, routine: false });
-const loads = schedule.lines.flatMap((l) => l.loads);
 
 let report: SimReport;
+let startMs = 0;
+let loads: ScheduledLoad[] = [];
 let wallS = 0;
 
 beforeAll(async () => {
-  const setup = await setupDemoPlant({ apiUrl: service.url, adminToken: service.adminToken });
-  const t0 = Date.now();
-  const simulator = new Simulator({
-    apiUrl: service.url,
-    plant: setup.plant,
-    schedule,
-    seed: DEMO_DAY.seed,
-    speed: Number.POSITIVE_INFINITY,
-    stopAtMs: startMs + DAY_MS,
-    heats: ALL_HEATS,
-    runId: `test-${Date.now().toString(36)}`,
-    maxStepMs: 5 * 60_000,
-  });
-  report = await simulator.run(300_000);
-  await service.settle(300_000);
-  wallS = (Date.now() - t0) / 1000;
+  const run = await runDemoDay(service);
+  ({ report, startMs, wallS } = run);
+  loads = run.schedule.lines.flatMap((l) => l.loads);
 }, 900_000);
 
 describe('the demo day against the real service', () => {
