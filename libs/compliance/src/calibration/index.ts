@@ -6,3 +6,4 @@ export * from './running.js';
 export * from './bands.js';
 export * from './lab.js';
 export * from './sequence.js';
+export * from './mismatch.js';
