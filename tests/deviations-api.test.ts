@@ -130,7 +130,7 @@ describe('deviation actions', () => {
 
     const disposition = await http.post(`/v1/deviations/${id}/disposition`, { disposition: 'RETREAT', reason: 'bath 12 K over band for 4 min; re-austemper' }, quality.headers);
     expect(disposition.status).toBe(200);
-    expect(disposition.body).toMatchObject({ status: 'DISPOSITIONED', disposition: 'RETREAT', dispositionedById: quality.id });
+    expect(disposition.body).toMatchObject({ status: 'DISPOSITIONED', disposition: 'RETREAT', dispositionedById: quality.id, signer: 'Dana Whitcombe (Quality)' });
 
     const close = await http.post(`/v1/deviations/${id}/close`, { reason: 're-treated as load 119, hardness in spec' }, quality.headers);
     expect(close.status).toBe(200);

@@ -60,7 +60,7 @@ export async function startIngestWorld(label: string, overrides: Partial<ApiConf
   const plant = await seedPlant(db.prisma);
   const [admin, quality, metallurgist, furnaceKey, bathKey, labKey] = await Promise.all([
     createUserWithSession(api.app, { roles: ['ADMIN'] }),
-    createUserWithSession(api.app, { roles: ['QUALITY'] }),
+    createUserWithSession(api.app, { roles: ['QUALITY'], displayName: 'Dana Whitcombe (Quality)' }),
     createUserWithSession(api.app, { roles: ['METALLURGIST'] }),
     createApiKeyFor(api.app, { scope: 'EQUIPMENT', equipmentIds: [plant.furnaceId] }),
     createApiKeyFor(api.app, { scope: 'EQUIPMENT', equipmentIds: [plant.bathId] }),

@@ -36,8 +36,8 @@ export interface BatchDetail extends Batch {
   samplesSummary: ChannelSummary[];
   deviations: Deviation[];
   labResults: LabResult[];
-  /** Null until the worker computed one; predictions of microstructure arrive with a later issue. */
-  latestPrediction: Prediction | null;
+  /** The newest prediction without its engine state (which can be 100 KiB+); null until the worker computed one. */
+  latestPrediction: Omit<Prediction, 'state'> | null;
 }
 
 /** Read side of batches: the list with filters and paging, and one batch with everything about it. */
@@ -89,7 +89,7 @@ export class BatchQueriesService {
         loadEvents: { include: { equipment: { select: { code: true } } } },
         deviations: { orderBy: [{ openedAt: 'desc' }, { id: 'desc' }] },
         labResults: { orderBy: [{ postedAt: 'asc' }, { id: 'asc' }] },
-        predictions: { orderBy: { version: 'desc' }, take: 1 },
+        predictions: { orderBy: { version: 'desc' }, take: 1, omit: { state: true } },
       },
     });
     if (!batch) throw notFound(`Batch ${id} does not exist`);

@@ -19,7 +19,7 @@ export class DeviationsService {
   private readonly repository: DeviationRepository;
 
   constructor(
-    @InjectPrisma() prisma: PrismaClient,
+    @InjectPrisma() private readonly prisma: PrismaClient,
     private readonly events: LiveEventsPublisher,
   ) {
     this.repository = new DeviationRepository(prisma);
@@ -49,7 +49,15 @@ export class DeviationsService {
 
   async act(id: string, action: DeviationAction, principal: Principal): Promise<Deviation> {
     if (principal.kind !== 'user') throw forbidden('Deviation actions are signed by a person, not an API key');
-    const actor: DeviationActor = { kind: 'user', userId: principal.userId, label: principal.email, roles: principal.roles };
+    // The signer printed on certificates is the person's name as registered, not their login.
+    const user = await this.prisma.user.findUnique({ where: { id: principal.userId }, select: { displayName: true } });
+    const actor: DeviationActor = {
+      kind: 'user',
+      userId: principal.userId,
+      label: principal.email,
+      ...(user?.displayName ? { displayName: user.displayName } : {}),
+      roles: principal.roles,
+    };
     const result = await this.repository.transition(id, action, actor);
     if (!result.ok) {
       switch (result.code) {
