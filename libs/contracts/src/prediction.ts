@@ -106,9 +106,10 @@ export const PredictionBasis = z.looseObject({
   loggedUntilS: z.number(),
   /** s from INTO_BATH to the end of the judged history (the projection's end while the load is in the bath). */
   judgedUntilS: z.number(),
-  /** While the load is in the bath, the rest of the hold is projected at the temperature being logged. */
+  /** While the load is in the bath, the rest of the scheduled hold is projected at the temperature being logged
+   *  ('batch' schedule or 'spec-min-hold'); 'log-gap' = the load is out but the bath log ended early. */
   projection: z
-    .looseObject({ fromS: z.number(), toS: z.number(), bathTempC: z.number(), basis: z.enum(['batch', 'spec-min-hold']) })
+    .looseObject({ fromS: z.number(), toS: z.number(), bathTempC: z.number(), basis: z.enum(['batch', 'spec-min-hold', 'log-gap']) })
     .nullable(),
   inputs: z.looseObject({
     heatId: z.string(),

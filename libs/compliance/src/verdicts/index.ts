@@ -1,0 +1,3 @@
+export * from './bands.js';
+export * from './judge.js';
+export * from './findings.js';
