@@ -184,8 +184,13 @@ describe('foundation, end to end', () => {
     expect(detail.deviations.filter((d: { status: string }) => d.status !== 'CLEARED').map((d: { id: string }) => d.id).sort()).toEqual(listed.map((d) => d.id).sort());
     const tc1 = detail.samplesSummary.find((c: { channelCode: string }) => c.channelCode === 'tc1');
     expect(tc1.max).toBeGreaterThan(390);
-    // No microstructure prediction is made in the foundation (a later issue), and none is faked.
-    expect(detail.latestPrediction).toBeNull();
+    // The metallurgical prediction (issue 4) follows the process-window result in its own transaction: a real one.
+    let prediction = detail.latestPrediction;
+    for (const deadline = Date.now() + 30_000; !prediction && Date.now() < deadline; ) {
+      await new Promise((resolve) => setTimeout(resolve, 200));
+      prediction = expectStatus(await http.get(`/v1/batches/${batch.id}`, metallurgist), 200).body.latestPrediction;
+    }
+    expect(prediction).toMatchObject({ phase: 'DONE', result: { modelVersion: expect.stringMatching(/^ausline-metallurgy\//) } });
 
     // One deviation per condition, not one per recompute (the re-post and the reconciler recompute too).
     expect(await db.prisma.deviation.count({ where: { batchId: batch.id, rule: 'bath-band-excursion' } })).toBe(2);

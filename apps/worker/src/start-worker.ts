@@ -5,7 +5,7 @@ import type { AppConfig } from '@ausline/contracts';
 import { WorkerLogger } from './logger.js';
 import { MetricsServer } from './ops/metrics-server.js';
 import { Reconciler } from './reconcile/reconciler.js';
-import type { WorkerRuntimeOptions } from './worker-config.js';
+import { DEFAULT_PREDICTION_SAMPLES, type WorkerRuntimeOptions } from './worker-config.js';
 import { WorkerModule } from './worker.module.js';
 
 export interface StartWorkerOptions extends Partial<WorkerRuntimeOptions> {
@@ -37,6 +37,7 @@ export async function startWorker(config: AppConfig, options: StartWorkerOptions
     reconcile: options.reconcile ?? true,
     inProgressWithinMs: options.inProgressWithinMs ?? 48 * 3600_000,
     inProgressEveryTicks: options.inProgressEveryTicks ?? 3,
+    prediction: options.prediction ?? { samples: DEFAULT_PREDICTION_SAMPLES, seed: 1 },
   };
   const app = await NestFactory.createApplicationContext(WorkerModule.forRoot(config, runtime, logger), { logger, abortOnError: false });
   if (options.shutdownHooks) app.enableShutdownHooks(['SIGTERM', 'SIGINT']);

@@ -15,4 +15,9 @@ export interface WorkerRuntimeOptions {
   inProgressWithinMs: number;
   /** Evaluate in-progress batches every this many reconcile ticks. */
   inProgressEveryTicks: number;
+  /** Uncertainty ensemble of the metallurgical prediction: samples (1,000 in production) and seed. */
+  prediction: { samples: number; seed: number };
 }
+
+/** Production ensemble size of the batch predictions (issue 3: 1,000 uncertainty samples). */
+export const DEFAULT_PREDICTION_SAMPLES = 1000;
