@@ -2,7 +2,10 @@ import { Global, Module, type DynamicModule } from '@nestjs/common';
 import { AdminModule } from './admin/admin.module.js';
 import { API_CONFIG, type ApiConfig } from './app-config.js';
 import { AuthModule } from './auth/auth.module.js';
+import { CalibrationModule } from './calibration/calibration.module.js';
+import { CertificatesModule } from './certificates/certificates.module.js';
 import { DashboardModule } from './dashboard/dashboard.module.js';
+import { DriftModule } from './drift/drift.module.js';
 import { IngestModule } from './ingest/ingest.module.js';
 import { JsonLogger } from './http/logger.js';
 import { OpsModule } from './ops/ops.module.js';
@@ -48,6 +51,10 @@ export class AppModule {
         StreamModule,
         PyrometryModule,
         DashboardModule,
+        // Drift across lots, lab calibration, certificate data (issue 4 items 4, 5, 7; PC2).
+        DriftModule,
+        CalibrationModule,
+        CertificatesModule,
       ],
     };
   }

@@ -117,6 +117,16 @@ export const ENDPOINT_MATRIX: readonly EndpointEntry[] = [
   { method: 'GET', path: '/v1/equipment/:id/uniformity-surveys', access: SIGNED_IN },
   { method: 'GET', path: '/v1/equipment/:id/suspect-triggers', access: SIGNED_IN },
   { method: 'POST', path: '/v1/pyrometry/overdue-sweep', access: { roles: ['ADMIN', 'QUALITY'] } },
+
+  // --- drift across lots, lab calibration, certificate data (PC2, issue 4 items 4, 5, 7): everyone signed in
+  // reads; QUALITY sets a draft spec version's drift-chart settings ----------------------------------
+  { method: 'GET', path: '/v1/drift', access: SIGNED_IN },
+  { method: 'GET', path: '/v1/drift/charts', access: SIGNED_IN },
+  { method: 'GET', path: '/v1/specs/:id/drift-charts', access: SIGNED_IN },
+  { method: 'PUT', path: '/v1/specs/:id/versions/:version/drift-charts', access: QUALITY },
+  { method: 'GET', path: '/v1/specs/:id/calibration', access: SIGNED_IN },
+  { method: 'GET', path: '/v1/batches/:id/certificate', access: SIGNED_IN },
+  { method: 'GET', path: '/v1/lots/:lotKey/certificate', access: SIGNED_IN },
 ];
 
 /**

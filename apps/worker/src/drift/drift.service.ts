@@ -1,5 +1,5 @@
 import { Inject, Injectable } from '@nestjs/common';
-import { AcceptanceCriteria, DriftChartsSettings, ProcessWindow, type LiveEvent } from '@ausline/contracts';
+import type { LiveEvent } from '@ausline/contracts';
 import {
   DRIFT_METRICS,
   DRIFT_RULE,
@@ -10,15 +10,14 @@ import {
   driftFinding,
   driftMetricApplies,
   driftMetricUnit,
+  driftSettingsOf,
+  driftSpecContext,
   driftSpecLimits,
   isHardnessScale,
-  resolveDriftSettings,
   type ChartLot,
   type DriftFinding,
   type DriftMetric,
-  type DriftSpecContext,
   type FrozenLimits,
-  type ResolvedDriftSettings,
   type StoredLimits,
 } from '@ausline/compliance';
 import { DeviationRepository, type DeviationChange, type Prisma, type PrismaClient } from '@ausline/db';
@@ -56,23 +55,6 @@ async function inForceVersion(tx: Tx, specId: string) {
     (await tx.productSpecVersion.findFirst({ where: { specId, status: 'APPROVED' }, orderBy: { version: 'desc' } })) ??
     (await tx.productSpecVersion.findFirst({ where: { specId }, orderBy: { version: 'desc' } }))
   );
-}
-
-export function driftSpecContext(version: { acceptanceCriteria: unknown; processWindow: unknown } | null): DriftSpecContext {
-  if (!version) return { acceptance: null, processWindow: null };
-  const a = AcceptanceCriteria.safeParse(version.acceptanceCriteria);
-  const w = ProcessWindow.safeParse(version.processWindow);
-  return { acceptance: a.success ? a.data : null, processWindow: w.success ? w.data : null };
-}
-
-/** Drift settings of a spec version (null column = defaults); a stored value that no longer parses falls back to defaults. */
-export function driftSettingsOf(version: { driftCharts: unknown } | null): { settings: ResolvedDriftSettings; problem: string | null } {
-  if (!version || version.driftCharts === null || version.driftCharts === undefined) return { settings: resolveDriftSettings(null), problem: null };
-  const parsed = DriftChartsSettings.safeParse(version.driftCharts);
-  if (!parsed.success) {
-    return { settings: resolveDriftSettings(null), problem: `stored driftCharts do not parse (${parsed.error.issues.map((i) => `${i.path.join('.')}: ${i.message}`).join('; ')}); defaults used` };
-  }
-  return { settings: resolveDriftSettings(parsed.data), problem: null };
 }
 
 /**

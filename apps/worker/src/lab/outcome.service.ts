@@ -1,11 +1,12 @@
 import { Inject, Injectable } from '@nestjs/common';
-import { AcceptanceCriteria, ProcessWindow, type LiveEvent } from '@ausline/contracts';
+import type { LiveEvent } from '@ausline/contracts';
 import {
   CALIBRATED_QUANTITIES,
   CALIBRATION_METHOD,
   DEFAULT_MIN_RESULTS,
   MISMATCH_RULE,
   driftMetricUnit,
+  driftSpecContext,
   judgeSequence,
   labObservations,
   measuredHardnessDriftValue,
@@ -51,12 +52,6 @@ interface LoadedPrediction {
 
 const EVENT_FIELD = { CHARGED: 'chargedMs', OUT_OF_FURNACE: 'outOfFurnaceMs', INTO_BATH: 'intoBathMs', OUT_OF_BATH: 'outOfBathMs' } as const;
 
-function specContext(version: { acceptanceCriteria: unknown; processWindow: unknown }): DriftSpecContext {
-  const a = AcceptanceCriteria.safeParse(version.acceptanceCriteria);
-  const w = ProcessWindow.safeParse(version.processWindow);
-  return { acceptance: a.success ? a.data : null, processWindow: w.success ? w.data : null };
-}
-
 /**
  * What came out of one batch, after each of its recomputes (issue 4, items 4 and 5):
  *  - its charted values (DriftValue): the prediction-based metrics from its latest prediction once the load
@@ -98,7 +93,7 @@ export class OutcomeService {
           orderBy: { version: 'desc' },
           select: { id: true, version: true, phase: true, modelVersion: true, inputDigest: true, result: true },
         })) as LoadedPrediction | null;
-        const ctx = specContext(batch.specVersion);
+        const ctx = driftSpecContext(batch.specVersion);
 
         const driftValuesChanged = await this.storeDriftValues(tx, batch, prediction, ctx, now);
         const { comparisons, changes } = await this.compareLabResults(tx, batch, productSpecId, prediction, now);

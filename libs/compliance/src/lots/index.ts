@@ -7,3 +7,5 @@ export * from './process-record.js';
 export * from './metric-values.js';
 export * from './drift-chart.js';
 export * from './drift-finding.js';
+export * from './drift-settings.js';
+export * from './certificate.js';
