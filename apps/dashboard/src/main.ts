@@ -34,7 +34,7 @@ const ROUTES: Record<string, ViewFactory> = {
 
 const NAV: Array<{ route: string; label: string; key: string }> = [
   { route: '/board', label: 'Live board', key: 'board' },
-  { route: '/batches', label: 'Batches', key: 'batches' },
+  { route: '/batches', label: 'Loads', key: 'batches' },
   { route: '/heats', label: 'Heats', key: 'heats' },
   { route: '/deviations', label: 'Deviations', key: 'deviations' },
   { route: '/admin', label: 'Plant & specs', key: 'admin' },

@@ -246,14 +246,33 @@ export interface HeatWithRevisions extends Heat {
   revisions: HeatRevision[];
 }
 
-/** GET /v1/heats/:id/diagram (requested of issue 4; may not exist yet). */
+/** GET /v1/heats/:id/diagram (libs/contracts HeatDiagram; served once issue 4 adds the endpoint). */
 export interface HeatDiagram {
+  heatId: string;
+  material: 'steel' | 'ductile-iron';
+  /** Carbon of the austenite drawn for (steel: bulk; ductile iron: matrix carbon at the spec's austenitize). */
+  meanCarbonWtPct: number;
   t0: Array<{ tempC: number; t0CarbonWtPct: number; t0PrimeCarbonWtPct: number }>;
   ae3: Array<{ carbonWtPct: number; tempC: number }>;
-  bsC: number | null;
-  msC: number | null;
-  meanCarbonWtPct?: number;
-  advisedBath?: { minTempC: number; maxTempC: number; minHoldMin?: number; reasons?: Record<string, string> };
+  ae1C: number;
+  bsC: number;
+  msC: number;
+  advisedBath?: { minTempC: number; maxTempC: number; minHoldMin?: number; reasons?: string[] };
+  warnings: string[];
+}
+
+/** POST /v1/heats/:id/advice (libs/contracts HeatAdvice; the fields the heat view shows). */
+export interface HeatAdvice {
+  specVersion: number;
+  confidence: number;
+  window: { minTempC: number; maxTempC: number; minHoldMin: number; maxHoldMin: number | null } | null;
+  edges: { lower: { tempC: number; reasons: string[]; messages: string[] } | null; upper: { tempC: number; reasons: string[]; messages: string[] } | null };
+  recommended: { tempC: number; holdMin: number } | null;
+  receipt: {
+    ok: boolean;
+    hardenability: { idealCriticalDiameterMm: number; sectionEquivalentDiameterMm: number; verdict: 'ok' | 'at-risk' | 'insufficient'; message: string };
+  };
+  warnings: string[];
 }
 
 export interface ElementLimit {

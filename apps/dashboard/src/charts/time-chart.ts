@@ -23,6 +23,8 @@ export interface TimeSeries {
   ys: Float64Array;
   /** Consecutive samples further apart are not joined. */
   gapMs: number;
+  /** Dashed line (e.g. a projection rather than a record). */
+  dash?: number[];
 }
 
 export interface Marker {
@@ -89,6 +91,8 @@ export class TimeChart {
 
     let pointsIn = 0;
     let pointsDrawn = 0;
+    let yMinDrawn = Number.POSITIVE_INFINITY;
+    let yMaxDrawn = Number.NEGATIVE_INFINITY;
     const datasets: ChartDataset<'line', XY[]>[] = input.series.map((s) => {
       pointsIn += s.xs.length;
       const thin = decimateMinMax(s.xs, s.ys, {
@@ -98,12 +102,18 @@ export class TimeChart {
         ...(xMax !== undefined ? { xMax: input.originMs + xMax * 60_000 } : {}),
       });
       pointsDrawn += thin.length;
+      for (const p of thin) {
+        if (p.y === null) continue;
+        if (p.y < yMinDrawn) yMinDrawn = p.y;
+        if (p.y > yMaxDrawn) yMaxDrawn = p.y;
+      }
       return {
         label: s.label,
         data: thin.map((p) => ({ x: toMin(p.x), y: p.y })),
         borderColor: s.color,
         backgroundColor: s.color,
         borderWidth: 1.6,
+        ...(s.dash ? { borderDash: s.dash } : {}),
         pointRadius: 0,
         pointHoverRadius: 3,
         spanGaps: false,
@@ -149,10 +159,12 @@ export class TimeChart {
         borderColor: m.color,
         borderWidth: 1.5,
         borderDash: m.dash ?? [6, 4],
+        // Labels stack down from the top, one row per marker, so markers close in time never overprint.
         label: {
           display: true,
           content: m.label,
-          position: i % 2 === 0 ? 'start' : 'end',
+          position: 'end',
+          yAdjust: i * 20,
           rotation: 0,
           backgroundColor: 'rgba(16, 20, 24, 0.85)',
           color: m.color,
@@ -180,7 +192,7 @@ export class TimeChart {
             title: { display: true, text: input.xTitle },
             ...(xMin !== undefined ? { min: xMin } : {}),
             ...(xMax !== undefined ? { max: xMax } : {}),
-            ticks: { maxTicksLimit: 12 },
+            ticks: { maxTicksLimit: 12, callback: (v) => (Number.isInteger(Number(v)) ? String(v) : '') },
           },
           y: {
             type: 'linear',
@@ -190,7 +202,7 @@ export class TimeChart {
           },
         },
         plugins: {
-          legend: { position: 'top', align: 'end' },
+          legend: { position: 'top', align: 'end', labels: { filter: (item) => item.text !== '' } },
           tooltip: {
             callbacks: {
               title: (items) => {
@@ -219,6 +231,9 @@ export class TimeChart {
     this.el.dataset['pointsIn'] = String(pointsIn);
     this.el.dataset['pointsDrawn'] = String(pointsDrawn);
     this.el.dataset['drawMs'] = drawMs.toFixed(1);
+    // The extremes that reached the screen (tests check that thinning kept them).
+    this.el.dataset['yMin'] = Number.isFinite(yMinDrawn) ? String(yMinDrawn) : '';
+    this.el.dataset['yMax'] = Number.isFinite(yMaxDrawn) ? String(yMaxDrawn) : '';
     this.el.dataset['drawnAt'] = String(Date.now());
     return this.lastStats;
   }

@@ -76,7 +76,7 @@ describe('batchState', () => {
           id: 'p', batchId: 'b1', version: 2, modelVersion: 'm', watermark: iso(now), phase: 'IN_BATH', createdAt: iso(now),
           result: {
             bainite: { ceilingFraction: 0.8, fractionAtEnd: 0.78, timeTo95PctS: 4000, curve: [[0, 0], [1200, 0.4], [4000, 0.76]] },
-            verdicts: [{ criterion: 'incompleteTransformation', verdict: 'nonconforming' }],
+            verdicts: [{ criterion: 'complete-transformation', verdict: 'nonconforming', message: 'incomplete' }],
             hold: { earliestSafeEndAt: iso(T + 3_612_000 + 4_000_000) },
           },
         },

@@ -1,5 +1,5 @@
 import type { BatchDetail, ChannelSummary, ProcessWindow } from '../api/types.js';
-import { fractionAt, overallVerdict, readPrediction, type PredictionView, type VerdictLevel } from './prediction.js';
+import { fractionAt, readPrediction, verdictOf, type PredictionView, type VerdictLevel } from './prediction.js';
 
 /**
  * What a screen says about one load right now, derived from GET /v1/batches/:id, its spec version's
@@ -92,7 +92,7 @@ export function batchState(d: BatchDetail, window: ProcessWindow | null, nowMs: 
   const furnaceReadings = readings(d.samplesSummary, 'FURNACE', furnaceBand, live ? maxAgeMs : Number.POSITIVE_INFINITY, nowMs);
 
   const prediction = readPrediction(d.latestPrediction);
-  const verdict = prediction ? overallVerdict(prediction.verdicts) : null;
+  const verdict = prediction ? verdictOf(prediction) : null;
   let bainiteNow: number | null = null;
   if (prediction && intoBath !== null) {
     const tS = ((outBath ?? nowMs) - intoBath) / 1000;

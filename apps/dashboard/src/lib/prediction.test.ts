@@ -1,52 +1,58 @@
 import { describe, expect, it } from 'vitest';
-import { fractionAt, overallVerdict, readPrediction } from './prediction.js';
+import { PredictionResult } from '@ausline/contracts';
+import { inventedPrediction } from './prediction-fixture.js';
+import { criterionName, fractionAt, overallVerdict, readPrediction, verdictOf } from './prediction.js';
 
-/** An invented prediction in the `ausline predict` shape (issue 3 item 9) plus issue 4's verdicts and hold. */
-const fixture = {
+const INTO = Date.parse('2026-03-01T07:00:00.000Z');
+const row = {
   version: 3,
-  modelVersion: 'm-0.1',
-  createdAt: '2026-03-01T07:10:00.000Z',
-  watermark: '2026-03-01T07:09:58.000Z',
-  phase: 'IN_BATH',
-  result: {
-    modelVersion: 'm-0.1',
-    temperaturesC: { ae1: 735, ae3: 790, bs: 520, ms: 245 },
-    t0: { bathTempC: 370, t0CarbonWtPct: 1.15, t0PrimeCarbonWtPct: 0.98 },
-    bainite: { ceilingFraction: 0.78, fractionAtEnd: 0.76, timeTo95PctS: 3300, curve: [[0, 0], [600, 0.3], [1200, 0.6], [3600, 0.76]], band: [[0, 0, 0], [1200, 0.5, 0.68]] },
-    quench: { upperProductsFraction: 0, coreReachesBathS: 40, idealCriticalDiameterMm: 80 },
-    final: { bainiticFerrite: 0.76, filmAustenite: 0.15, blockyAustenite: 0.06, freshMartensite: 0.03, upperProducts: 0, austeniteCarbonWtPct: 1.2, residualAusteniteMsC: -40 },
-    properties: { hardnessHV: { p05: 420, p50: 440, p95: 462 }, tensileMPa: { p05: 1350, p50: 1420, p95: 1490 } },
-    warnings: ['grain size not given; ASTM 8 assumed'],
-    verdicts: [
-      { criterion: 'minBainiteFraction', verdict: 'conforming', p05: 0.72, p50: 0.76, p95: 0.79, limit: 0.7, unit: 'fraction' },
-      { criterion: 'hardness', verdict: 'at_risk', p05: 420, p50: 440, p95: 462, limit: 450, unit: 'HV', message: 'p95 above 450 HV' },
-      { criterion: 'bogus', verdict: 'fine' },
-    ],
-    hold: { earliestSafeEndAt: '2026-03-01T07:55:00.000Z', scheduledEndAt: '2026-03-01T08:00:00.000Z', extraHoldMin: null },
-  },
+  modelVersion: 'invented-fixture',
+  createdAt: '2026-03-01T07:50:00.000Z',
+  watermark: '2026-03-01T07:45:00.000Z',
+  phase: 'DONE',
+  milestone: 'out-of-bath',
+  result: inventedPrediction(INTO),
 };
 
 describe('readPrediction', () => {
-  it('reads every field the screens use', () => {
-    const p = readPrediction(fixture)!;
-    expect(p.temperaturesC).toEqual({ ae1: 735, ae3: 790, bs: 520, ms: 245 });
-    expect(p.bainite.ceilingFraction).toBe(0.78);
-    expect(p.bainite.curve).toHaveLength(4);
-    expect(p.bainite.band).toEqual([[0, 0, 0], [1200, 0.5, 0.68]]);
-    expect(p.final.freshMartensite).toBe(0.03);
-    expect(p.properties.hardnessHV).toEqual({ p05: 420, p50: 440, p95: 462 });
-    expect(p.properties.adiGrade).toBeNull();
-    expect(p.hold.earliestSafeEndMs).toBe(Date.parse('2026-03-01T07:55:00.000Z'));
-    expect(p.warnings).toEqual(['grain size not given; ASTM 8 assumed']);
+  it('the fixture is a valid PredictionResult of libs/contracts (so the adapter is tested on the real shape)', () => {
+    expect(PredictionResult.safeParse(row.result).success).toBe(true);
   });
 
-  it('keeps only verdicts it understands, and normalises their spelling', () => {
-    const p = readPrediction(fixture)!;
+  it('reads every field the screens use', () => {
+    const p = readPrediction(row)!;
+    expect(p.temperaturesC).toEqual({ ae1: 742, ae3: 778, bs: 561, ms: 276 });
+    expect(p.bainite.ceilingFraction).toBe(0.59);
+    expect(p.bainite.curve).toHaveLength(46);
+    expect(p.bainite.band[0]).toEqual([0, 0, 0]);
+    expect(p.bainite.loggedUntilS).toBe(2700);
+    expect(p.final.freshMartensite).toBe(0.04);
+    expect(p.properties.hardnessHV).toEqual({ p05: 470, p50: 492, p95: 515 });
+    expect(p.properties.adiGrade).toBeNull();
+    expect(p.hold).toMatchObject({ earliestSafeEndMs: INTO + 40 * 60_000, scheduledEndMs: INTO + 45 * 60_000, extraHoldMin: 1.5, limiting: ['complete-transformation'] });
+    expect(p.warnings).toEqual(['grain size not given: ASTM 9 assumed']);
+    expect(p.milestone).toBe('out-of-bath');
+  });
+
+  it('reads verdicts with their rule, limits and drivers, and the stored overall verdict', () => {
+    const p = readPrediction(row)!;
     expect(p.verdicts.map((v) => [v.criterion, v.verdict])).toEqual([
-      ['minBainiteFraction', 'conforming'],
-      ['hardness', 'at-risk'],
+      ['min-bainite', 'conforming'],
+      ['max-blocky-austenite', 'at-risk'],
+      ['hardness', 'conforming'],
     ]);
-    expect(overallVerdict(p.verdicts)).toBe('at-risk');
+    expect(p.verdicts[2]).toMatchObject({ limitMin: 460, limitMax: 545, unit: 'HV', rule: 'predicted-hardness' });
+    expect(p.verdicts[1]!.drivers).toEqual(['bath 300 °C leaves coarse blocks between sheaves']);
+    expect(p.overall).toBe('at-risk');
+    expect(verdictOf(p)).toBe('at-risk');
+    expect(criterionName('max-blocky-austenite')).toBe('Maximum blocky austenite');
+  });
+
+  it('drops verdicts it cannot read and normalises spelling; no overall falls back to the worst verdict', () => {
+    const p = readPrediction({ result: { verdicts: [{ criterion: 'x', verdict: 'at_risk', message: 'm' }, { criterion: 'y', verdict: 'fine' }] } })!;
+    expect(p.verdicts.map((v) => v.verdict)).toEqual(['at-risk']);
+    expect(p.overall).toBeNull();
+    expect(verdictOf(p)).toBe('at-risk');
   });
 
   it('no prediction is null, and missing numbers stay null instead of becoming 0', () => {

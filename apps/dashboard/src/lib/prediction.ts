@@ -1,9 +1,11 @@
 /**
- * What the dashboard reads from a stored prediction (Prediction.result). The fields are those of the
- * `ausline predict` output (issue 3, item 9) plus the verdicts and the hold advice of issue 4. Nothing
- * else in the dashboard looks into Prediction.result: when the stored shape changes, this adapter is
- * the one place to follow it. Anything missing or malformed reads as "not given" (null), never as a
- * made-up number: a screen that decides whether parts may leave the bath must not show a default.
+ * What the dashboard reads from a stored prediction (Prediction.result): the `ausline predict` output
+ * (issue 3, item 9) plus verdicts, overall, hold advice, bainite band and basis (libs/contracts
+ * prediction.ts, PredictionResult). Nothing else in the dashboard looks into Prediction.result: when the
+ * stored shape changes, this adapter is the one place to follow it. It does not import the zod schema
+ * (the bundle stays small and a field the engine adds later must not break the screen); anything missing
+ * or malformed reads as "not given" (null), never as a made-up number: a screen that decides whether
+ * parts may leave the bath must not show a default.
  */
 
 export type VerdictLevel = 'conforming' | 'at-risk' | 'nonconforming';
@@ -16,11 +18,17 @@ export interface Band {
 
 export interface CriterionVerdict {
   criterion: string;
+  /** Deviation rule the verdict opens when not conforming. */
+  rule: string | null;
   verdict: VerdictLevel;
   message: string | null;
   band: Band | null;
   limit: number | null;
+  limitMin: number | null;
+  limitMax: number | null;
   unit: string | null;
+  /** Which inputs drove the value, most important first. */
+  drivers: string[];
 }
 
 export interface PhaseMix {
@@ -48,16 +56,34 @@ export interface PredictionView {
     curve: Array<[number, number]>;
     /** [tS, p05, p95]; empty when the prediction carries no band. */
     band: Array<[number, number, number]>;
+    /** Curve and band beyond this time are projected at the logged temperature, not logged; null = all logged. */
+    loggedUntilS: number | null;
   };
   final: PhaseMix & { austeniteCarbonWtPct: number | null; residualAusteniteMsC: number | null };
   properties: { hardnessHV: Band | null; tensileMPa: Band | null; adiGrade: string | null };
   warnings: string[];
   verdicts: CriterionVerdict[];
-  hold: { earliestSafeEndMs: number | null; scheduledEndMs: number | null; extraHoldMin: number | null };
+  /** The worst verdict as stored; null when the spec names no criterion (or the result has none). */
+  overall: VerdictLevel | null;
+  hold: {
+    earliestSafeEndMs: number | null;
+    scheduledEndMs: number | null;
+    extraHoldMin: number | null;
+    /** Logged bath minus the spec's nominal temperature, °C. */
+    bathOffsetC: number | null;
+    holdBathTempC: number | null;
+    nominalBathC: number | null;
+    /** Criteria that set the earliest end. */
+    limiting: string[];
+    /** Why there is no safe end, when there is none. */
+    reason: string | null;
+  };
+  milestone: string | null;
 }
 
 /** The Prediction row as GET /v1/batches/:id returns it (latestPrediction). */
 export interface PredictionRow {
+  milestone?: string | null;
   version?: number;
   modelVersion?: string;
   createdAt?: string;
@@ -122,14 +148,22 @@ function verdicts(v: unknown): CriterionVerdict[] {
     if (!level || !criterion) continue;
     out.push({
       criterion,
+      rule: str(item['rule']),
       verdict: level,
       message: str(item['message']),
       band: band(item),
       limit: num(item['limit']),
+      limitMin: num(item['limitMin']),
+      limitMax: num(item['limitMax']),
       unit: str(item['unit']),
+      drivers: strings(item['drivers']),
     });
   }
   return out;
+}
+
+function strings(v: unknown): string[] {
+  return Array.isArray(v) ? v.filter((x): x is string => typeof x === 'string') : [];
 }
 
 /** Reads a stored prediction; null when there is none. */
@@ -156,6 +190,7 @@ export function readPrediction(row: PredictionRow | null | undefined): Predictio
       timeTo95PctS: num(bainite['timeTo95PctS']),
       curve: pairs(bainite['curve']),
       band: triples(bainite['band']),
+      loggedUntilS: num(bainite['loggedUntilS']),
     },
     final: {
       bainiticFerrite: num(final['bainiticFerrite']),
@@ -167,14 +202,26 @@ export function readPrediction(row: PredictionRow | null | undefined): Predictio
       residualAusteniteMsC: num(final['residualAusteniteMsC']),
     },
     properties: { hardnessHV: band(props['hardnessHV']), tensileMPa: band(props['tensileMPa']), adiGrade: str(props['adiGrade']) },
-    warnings: Array.isArray(r['warnings']) ? r['warnings'].filter((w): w is string => typeof w === 'string') : [],
+    warnings: strings(r['warnings']),
     verdicts: verdicts(r['verdicts']),
+    overall: 'overall' in r ? verdictLevel(r['overall']) : null,
     hold: {
       earliestSafeEndMs: timeMs(hold['earliestSafeEndAt']),
       scheduledEndMs: timeMs(hold['scheduledEndAt']),
       extraHoldMin: num(hold['extraHoldMin']),
+      bathOffsetC: num(hold['bathOffsetC']),
+      holdBathTempC: num(hold['holdBathTempC']),
+      nominalBathC: num(hold['nominalBathC']),
+      limiting: strings(hold['limiting']),
+      reason: str(hold['reason']),
     },
+    milestone: str(row.milestone),
   };
+}
+
+/** The stored overall verdict, else the worst of the list; null when there is none (no verdict is not "conforming"). */
+export function verdictOf(p: PredictionView): VerdictLevel | null {
+  return p.overall ?? overallVerdict(p.verdicts);
 }
 
 /** The worst verdict of a list; null when the list is empty (no verdict is not "conforming"). */
@@ -205,23 +252,25 @@ export const VERDICT_TEXT: Record<VerdictLevel, string> = {
   nonconforming: 'Nonconforming',
 };
 
-/** Plain names of acceptance criteria ids for the screens; unknown ids are shown as they are. */
+/** Plain names of the criteria ids (libs/contracts PREDICTION_CRITERIA); unknown ids are shown as they are. */
 export function criterionName(id: string): string {
   const names: Record<string, string> = {
-    minBainiteFraction: 'Minimum bainite fraction',
-    incompleteTransformation: 'Transformation complete before end of hold',
-    maxFreshMartensiteFraction: 'Maximum fresh martensite',
-    maxBlockyAusteniteFraction: 'Maximum blocky austenite',
-    minFilmToBlockRatio: 'Minimum film-to-block ratio',
-    minMsMarginC: 'Bath above Ms by the margin',
-    minBsMarginC: 'Bath below Bs by the margin',
-    upperProducts: 'No upper products in the quench',
-    residualAusteniteMs: 'Residual austenite Ms below ambient',
-    minSiPlusAlWtPct: 'Si + Al keeps cementite out',
+    'min-bainite': 'Minimum bainite (ausferrite) fraction',
+    'complete-transformation': 'Transformation complete before the end of hold',
+    'max-fresh-martensite': 'Maximum fresh martensite',
+    'max-blocky-austenite': 'Maximum blocky austenite',
+    'min-film-to-block': 'Minimum film-to-block ratio',
+    'max-retained-austenite': 'Maximum retained austenite',
+    'ms-margin': 'Bath above Ms by the margin',
+    'bs-margin': 'Bath below Bs by the margin',
+    'max-upper-products': 'No upper products in the quench',
+    'stable-retained-austenite': 'Retained austenite stable at ambient',
+    'min-si-plus-al': 'Si + Al keeps cementite out',
     hardness: 'Hardness band',
     tensile: 'Tensile band',
-    stageI: 'Stage I complete (ADI)',
-    stageII: 'Stage II not begun (ADI)',
+    'adi-stage-i': 'ADI stage I complete',
+    'adi-stage-ii': 'ADI stage II not begun',
+    'hold-length': 'Scheduled hold long enough',
   };
   return names[id] ?? id;
 }

@@ -134,7 +134,7 @@ export function deviationPanel(ctx: AppContext, deviation: DeviationWithAudit, o
       onChanged(updated);
     } catch (error) {
       showError(messages, error, doing);
-      for (const b of buttons) b.disabled = b.getAttribute('aria-disabled') === 'true';
+      for (const b of buttons) b.disabled = b.dataset['locked'] === 'true';
     }
   }
 

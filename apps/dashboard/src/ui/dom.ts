@@ -74,7 +74,10 @@ export function button(text: Child, onClick: (event: MouseEvent) => void, option
     'button',
     {
       class: `btn ${options.kind ?? 'plain'}`,
-      attrs: { type: options.type ?? 'button', title: options.title, 'aria-disabled': options.disabled ? 'true' : undefined },
+      attrs: { type: options.type ?? 'button', title: options.title },
+      // A button that is off for good (the role may not do it) is marked so a form that re-enables its
+      // buttons after a request leaves it off.
+      ...(options.disabled ? { dataset: { locked: 'true' } } : {}),
       props: { disabled: options.disabled ?? false },
       on: { click: onClick },
     },

@@ -210,7 +210,8 @@ export const batchView: ViewFactory = (ctx, route) => {
       ),
     );
     if (channels.length === 0) return;
-    const xRange = { min: Math.min(0, (channels.flatMap((c) => c.points.slice(0, 1).map((p) => p[0]))[0] ?? origin) - origin) / 60_000, max: (xMax - origin) / 60_000 * 1.02 + 0.5 };
+    const firstMs = Math.min(...channels.map((c) => c.points[0]?.[0] ?? origin));
+    const xRange = { min: Math.max(-5, Math.min(0, Math.floor((firstMs - origin) / 60_000))), max: Math.ceil(((xMax - origin) / 60_000) * 1.02 + 0.5) };
     bathChart.draw({
       series: ts,
       originMs: origin,
@@ -221,7 +222,7 @@ export const batchView: ViewFactory = (ctx, route) => {
       excursions,
       markers,
       zone,
-      xRange: { min: Math.max(xRange.min, -5), max: xRange.max },
+      xRange,
     });
   }
 
@@ -237,13 +238,18 @@ export const batchView: ViewFactory = (ctx, route) => {
       return;
     }
     const origin = s.intoBathMs;
-    const curve = toColumns(p.bainite.curve.map(([tS, f]) => [origin + tS * 1000, f * 100] as [number, number]));
+    // Logged part solid; beyond loggedUntilS the curve is projected at the logged temperature (dashed).
+    const splitS = p.bainite.loggedUntilS ?? Number.POSITIVE_INFINITY;
+    const toMsPct = ([tS, f]: [number, number]) => [origin + tS * 1000, f * 100] as [number, number];
+    const logged = toColumns(p.bainite.curve.filter(([tS]) => tS <= splitS).map(toMsPct));
+    const projectedPts = p.bainite.curve.filter(([tS], i, all) => tS >= splitS || (i + 1 < all.length && all[i + 1]![0] > splitS && tS <= splitS));
+    const projected = toColumns(projectedPts.map(toMsPct));
     const extra: ChartDataset<'line', XY[]>[] = [];
     if (p.bainite.band.length > 0) {
       const lo = p.bainite.band.map(([tS, p05]) => ({ x: tS / 60, y: p05 * 100 }));
       const hi = p.bainite.band.map(([tS, , p95]) => ({ x: tS / 60, y: p95 * 100 }));
       extra.push(
-        { label: 'p05', data: lo, borderColor: 'transparent', pointRadius: 0, parsing: false, fill: false } as never,
+        { label: '', data: lo, borderColor: 'transparent', pointRadius: 0, parsing: false, fill: false } as never,
         { label: 'p05–p95 band', data: hi, borderColor: 'transparent', backgroundColor: COLORS.bainiteBand, pointRadius: 0, parsing: false, fill: '-1' } as never,
       );
     }
@@ -269,7 +275,10 @@ export const batchView: ViewFactory = (ctx, route) => {
         p.bainite.band.length === 0 ? ' · the prediction gives no band for the curve' : ''),
     );
     bainiteChart.draw({
-      series: [{ label: 'predicted', color: COLORS.bainite, xs: curve.xs, ys: curve.ys, gapMs: Number.POSITIVE_INFINITY }],
+      series: [
+        { label: 'predicted from the log', color: COLORS.bainite, xs: logged.xs, ys: logged.ys, gapMs: Number.POSITIVE_INFINITY },
+        ...(projected.xs.length > 1 ? [{ label: 'projected to the end of hold', color: COLORS.bainite, xs: projected.xs, ys: projected.ys, gapMs: Number.POSITIVE_INFINITY, dash: [6, 4] }] : []),
+      ],
       originMs: origin,
       xTitle: 'Time in bath (min)',
       yTitle: 'Volume fraction (vol%)',
@@ -279,7 +288,7 @@ export const batchView: ViewFactory = (ctx, route) => {
       markers,
       zone,
       yRange: { min: 0, max: 100 },
-      xRange: { min: 0, max: xMax * 1.05 + 0.5 },
+      xRange: { min: 0, max: Math.ceil(xMax * 1.05 + 0.5) },
       extraAnnotations: annotations,
       extraDatasets: extra,
     });
@@ -320,7 +329,7 @@ export const batchView: ViewFactory = (ctx, route) => {
       excursions: excursions.filter((e) => e.side === 'above'),
       markers: outF ? [{ atMs: end, label: 'out of furnace', color: COLORS.now, dash: [] }] : [{ atMs: end, label: 'now', color: COLORS.now, dash: [] }],
       zone,
-      xRange: { min: 0, max: ((end - origin) / 60_000) * 1.03 + 0.5 },
+      xRange: { min: 0, max: Math.ceil(((end - origin) / 60_000) * 1.03 + 0.5) },
     });
   }
 
@@ -338,14 +347,19 @@ export const batchView: ViewFactory = (ctx, route) => {
       p.verdicts.length === 0
         ? h('p', { class: 'muted' }, 'The prediction carries no verdicts per criterion.')
         : h('ul', { class: 'verdicts' }, ...p.verdicts.map((v) =>
-            h('li', null, verdictBadge(v.verdict), ' ', h('strong', null, criterionName(v.criterion)),
-              v.band ? h('span', { class: 'muted' }, ` · p05–p95 ${fmtNum(v.band.p05, 2)}–${fmtNum(v.band.p95, 2)}${v.unit ? ` ${v.unit}` : ''}`) : null,
-              v.limit !== null ? h('span', { class: 'muted' }, ` · limit ${fmtNum(v.limit, 2)}${v.unit ? ` ${v.unit}` : ''}`) : null,
-              v.message ? h('div', { class: 'small' }, v.message) : null))),
+            h('li', { dataset: { criterion: v.criterion, verdict: v.verdict } }, verdictBadge(v.verdict), ' ', h('strong', null, criterionName(v.criterion)),
+              v.band ? h('span', { class: 'muted' }, ` · p05–p95 ${verdictValue(v.band.p05, v.unit, false)}–${verdictValue(v.band.p95, v.unit)}`) : null,
+              v.limitMin !== null || v.limitMax !== null
+                ? h('span', { class: 'muted' }, ` · spec ${v.limitMin !== null ? verdictValue(v.limitMin, v.unit, false) : '…'}–${v.limitMax !== null ? verdictValue(v.limitMax, v.unit) : '…'}`)
+                : v.limit !== null ? h('span', { class: 'muted' }, ` · limit ${verdictValue(v.limit, v.unit)}`) : null,
+              v.message ? h('div', { class: 'small' }, v.message) : null,
+              v.verdict !== 'conforming' && v.drivers.length > 0 ? h('div', { class: 'small muted' }, `Why: ${v.drivers.join('; ')}`) : null))),
       facts([
-        ['Earliest safe end', s.earliestSafeEndMs !== null ? `${formatClock(s.earliestSafeEndMs, zone)}${s.intoBathMs !== null ? ` (${fmtMin((s.earliestSafeEndMs - s.intoBathMs) / 60_000)} in bath)` : ''}` : 'not given'],
+        ['Earliest safe end', s.earliestSafeEndMs !== null ? `${formatClock(s.earliestSafeEndMs, zone)}${s.intoBathMs !== null ? ` (${fmtMin((s.earliestSafeEndMs - s.intoBathMs) / 60_000)} in bath)` : ''}` : `none${p.hold.reason ? `: ${p.hold.reason}` : ''}`],
+        ['Set by', p.hold.limiting.length > 0 ? p.hold.limiting.map(criterionName).join(', ') : '—'],
         ['Scheduled end', s.scheduledEndMs !== null ? formatClock(s.scheduledEndMs, zone) : 'not set'],
-        ['Extra hold needed', p.hold.extraHoldMin !== null ? fmtMin(p.hold.extraHoldMin) : '—'],
+        ['Bath vs nominal', p.hold.bathOffsetC !== null ? `${p.hold.bathOffsetC >= 0 ? '+' : ''}${fmtNum(p.hold.bathOffsetC, 1)} °C (logged ${fmtC(p.hold.holdBathTempC)}, nominal ${fmtC(p.hold.nominalBathC)})` : '—'],
+        ['Hold change for that', p.hold.extraHoldMin !== null ? `${p.hold.extraHoldMin >= 0 ? '+' : ''}${fmtMin(p.hold.extraHoldMin, 1)}` : '—'],
         ['Ms / Bs', `${fmtC(p.temperaturesC.ms, 0)} / ${fmtC(p.temperaturesC.bs, 0)}`],
       ]),
       s.scheduledTooEarly ? h('p', { class: 'notice error' }, 'The scheduled end of hold is before the earliest safe end: the load would leave the bath before it has transformed enough.') : null,
@@ -404,7 +418,7 @@ export const batchView: ViewFactory = (ctx, route) => {
     if (c.hardness && c.hardness.scale !== 'HV') {
       rows.push(rangeBar({ label: `Hardness (${c.hardness.scale})`, unit: c.hardness.scale, spec: { min: c.hardness.min, max: c.hardness.max }, measured: readingsIn(c.hardness.scale), measuredLabel: 'lab reading' }));
     }
-    rows.push(rangeBar({ label: 'Tensile Rm (MPa)', unit: 'MPa', spec: c.tensile ? { min: c.tensile.minTensileMPa ?? null, max: c.tensile.maxTensileMPa ?? null } : null, band: p?.properties.tensileMPa ?? null, measured: tensileLab, measuredLabel: 'lab Rm' }));
+    if (c.tensile || p?.properties.tensileMPa || tensileLab.length > 0) rows.push(rangeBar({ label: 'Tensile Rm (MPa)', unit: 'MPa', spec: c.tensile ? { min: c.tensile.minTensileMPa ?? null, max: c.tensile.maxTensileMPa ?? null } : null, band: p?.properties.tensileMPa ?? null, measured: tensileLab, measuredLabel: 'lab Rm' }));
     const raPredicted = p && p.final.filmAustenite !== null && p.final.blockyAustenite !== null ? (p.final.filmAustenite + p.final.blockyAustenite) * 100 : null;
     if (raPredicted !== null || raLab.length > 0 || c.maxRetainedAusteniteFraction !== undefined) {
       rows.push(rangeBar({ label: 'Retained austenite (vol%)', unit: 'vol%', digits: 1, spec: c.maxRetainedAusteniteFraction !== undefined ? { max: c.maxRetainedAusteniteFraction * 100 } : null, band: raPredicted !== null ? { p05: raPredicted, p50: raPredicted, p95: raPredicted } : null, measured: raLab, measuredLabel: 'XRD' }));
@@ -449,7 +463,7 @@ export const batchView: ViewFactory = (ctx, route) => {
             result = `${fmtNum(Number(r.values['meanJ']), 0)} J mean at ${fmtC(Number(r.values['temperatureC']), 0)} (${String(r.values['notch'] ?? '')})`;
             if (c.minImpactJ !== undefined) against = Number(r.values['meanJ']) >= c.minImpactJ ? `meets ≥ ${c.minImpactJ} J` : `below ${c.minImpactJ} J`;
           }
-          return h('tr', null, h('td', null, r.kind.toLowerCase().replace('_', ' ')), h('td', null, result), h('td', null, against || '—'), h('td', { class: 'small' }, r.testStandard ?? ''), h('td', { class: 'small' }, r.externalRef));
+          return h('tr', null, h('td', null, r.kind.toLowerCase().replace('_', ' ')), h('td', null, result), h('td', null, against || '—'), h('td', { class: 'ref' }, r.testStandard ?? ''), h('td', { class: 'ref' }, r.externalRef));
         })),
       ),
       p ? null : h('p', { class: 'muted small' }, 'No prediction yet, so results are compared with the spec only.'),
@@ -487,12 +501,10 @@ export const batchView: ViewFactory = (ctx, route) => {
     replace(slot, loading());
     try {
       const full = await ctx.api.get<DeviationWithAudit>(`/v1/deviations/${deviationId}`);
-      const flash = flashes.get(deviationId);
-      flashes.delete(deviationId);
       replace(slot, deviationPanel(ctx, full, (u) => {
-        flashes.set(deviationId, `Saved: the deviation is now ${u.status.toLowerCase()}.`);
+        flashes.set(deviationId, `Saved at ${formatClock(Date.now(), zone, true)}: the deviation is now ${u.status.toLowerCase()}.`);
         void load(false);
-      }, flash));
+      }, flashes.get(deviationId)));
     } catch (error) {
       showError(slot, error, 'Loading the deviation');
     }
@@ -535,6 +547,15 @@ export const batchView: ViewFactory = (ctx, route) => {
     },
   };
 };
+
+/** A verdict's number in its unit: fractions as vol%, hardness and strength whole, the rest to 2 places. */
+function verdictValue(v: number, unit: string | null, withUnit = true): string {
+  if (unit === 'fraction') return `${fmtNum(v * 100, 1)}${withUnit ? ' vol%' : ''}`;
+  if (unit === 's') return `${fmtNum(v / 60, 1)}${withUnit ? ' min' : ''}`;
+  if (unit === 'ratio') return fmtNum(v, 2);
+  const digits = unit === 'HV' || unit === 'MPa' || unit === '°C' || unit === 'HBW' || unit === 'J' ? 0 : unit === 'HRC' ? 1 : 2;
+  return `${fmtNum(v, digits)}${withUnit && unit ? ` ${unit}` : ''}`;
+}
 
 function lowerIndex(xs: Float64Array, x: number): number {
   let lo = 0;

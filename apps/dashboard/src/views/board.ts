@@ -163,7 +163,10 @@ export const boardView: ViewFactory = (ctx) => {
             const d = details.get(b.id);
             return d ? loadRow(d, now) : h('div', { class: 'load' }, b.code, ' ', loading());
           }),
-      devs.length > 0 ? h('ul', { class: 'dev-list' }, ...devs.slice(0, 4).map((dv) => h('li', null, severityChip(dv.severity), ' ', link(`/deviations/${dv.id}`, fmtRule(dv.rule)), dv.batch ? h('span', { class: 'muted' }, ` · ${dv.batch.code}`) : null))) : null,
+      devs.length > 0
+        ? h('ul', { class: 'dev-list' }, ...devs.slice(0, 4).map((dv) => h('li', null, severityChip(dv.severity), ' ', link(`/deviations/${dv.id}`, fmtRule(dv.rule)),
+            h('span', { class: 'muted' }, ` · ${[dv.batch?.code, dv.channel?.code, dv.status === 'ACKNOWLEDGED' ? 'acknowledged' : null].filter(Boolean).join(' · ')} · ${formatClock(dv.openedAt, ctx.plantZone)}`))))
+        : null,
       devs.length > 4 ? h('p', { class: 'muted small' }, `and ${devs.length - 4} more`) : null,
     );
   }
@@ -184,15 +187,18 @@ export const boardView: ViewFactory = (ctx) => {
       ),
       h('p', { class: 'muted small' }, `Heat ${d.heat.heatNumber} · ${d.spec.code} v${d.spec.version} · ${d.partCount} parts`),
       s.step === 'furnace' || s.step === 'transfer'
-        ? readingsLine('Furnace', s.furnaceReadings, w ? fmtLimits(w.austenitize.minTempC, w.austenitize.maxTempC, '°C') : null)
-        : readingsLine('Bath', s.bathReadings, w ? fmtLimits(w.bath.minTempC, w.bath.maxTempC, '°C') : null),
+        ? readingsLine('Furnace', s.furnaceReadings, w ? fmtLimits(w.austenitize.minTempC, w.austenitize.maxTempC, '°C') : null, true)
+        : readingsLine('Bath', s.bathReadings, w ? fmtLimits(w.bath.minTempC, w.bath.maxTempC, '°C') : null, false),
       s.step === 'bath' ? bainiteLine(s, criteria?.minBainiteFraction ?? null) : null,
-      s.step === 'bath' ? holdLine(s, now) : null,
+      s.step === 'bath' ? holdLine(s, now, w) : null,
       s.stale.length > 0 ? h('ul', { class: 'stale-notes' }, ...s.stale.map((n) => h('li', null, '⚠ ', n.text, n.sinceMs ? ` (since ${formatClock(n.sinceMs, ctx.plantZone)})` : ''))) : null,
     );
   }
 
-  function readingsLine(what: string, readings: Reading[], bandText: string | null): HTMLElement {
+  /** Furnace readings below the band are the heat-up, not an alarm; above it they are. */
+  function readingsLine(what: string, readings: Reading[], bandText: string | null, heatingUp: boolean): HTMLElement {
+    const cls = (r: Reading): string => (r.band === 'below' && heatingUp ? 'heating' : (r.band ?? ''));
+    const mark = (r: Reading): string => (r.band === 'above' ? ' ▲ above' : r.band === 'below' ? (heatingUp ? ' heating up' : ' ▼ below') : '');
     return h(
       'div',
       { class: 'readings' },
@@ -200,10 +206,10 @@ export const boardView: ViewFactory = (ctx) => {
       readings.length === 0
         ? h('span', { class: 'muted' }, 'no readings yet')
         : readings.map((r) =>
-            h('span', { class: `reading ${r.band ?? ''} ${r.stale ? 'stale' : ''}`, attrs: { title: `${r.equipmentCode} ${r.channelCode}: last reading ${formatClock(r.atMs, ctx.plantZone, true)}` } },
-              h('span', { class: 'muted' }, `${r.channelCode} `), fmtC(r.valueC), r.band === 'above' ? ' ▲' : r.band === 'below' ? ' ▼' : '', r.stale ? ' (silent)' : ''),
+            h('span', { class: `reading ${cls(r)} ${r.stale ? 'stale' : ''}`, attrs: { title: `${r.equipmentCode} ${r.channelCode}: last reading ${formatClock(r.atMs, ctx.plantZone, true)}` } },
+              h('span', { class: 'muted' }, `${r.channelCode} `), fmtC(r.valueC), h('span', { class: 'small' }, mark(r)), r.stale ? ' (silent)' : ''),
           ),
-      bandText ? h('span', { class: 'muted small' }, ` band ${bandText}`) : null,
+      bandText ? h('span', { class: 'muted small nowrap' }, `band ${bandText}`) : null,
     );
   }
 
@@ -218,18 +224,24 @@ export const boardView: ViewFactory = (ctx) => {
     );
   }
 
-  function holdLine(s: BatchState, now: number): HTMLElement {
+  function holdLine(s: BatchState, now: number, w: ReturnType<typeof windowOf>): HTMLElement[] {
     const safe = s.earliestSafeEndMs;
-    return h(
-      'div',
-      { class: 'hold' },
-      h('span', { class: 'label' }, 'Safe end'),
-      safe === null
-        ? h('span', { class: 'muted' }, s.prediction ? 'not given by the prediction' : 'no prediction yet')
-        : h('span', { class: safe <= now ? 'ok' : '' }, formatClock(safe, ctx.plantZone), safe <= now ? ' (reached)' : ` (in ${formatDuration(safe - now)})`),
-      s.scheduledEndMs !== null ? h('span', { class: 'muted small' }, ` · scheduled ${formatClock(s.scheduledEndMs, ctx.plantZone)}`) : null,
-      s.scheduledTooEarly ? h('strong', { class: 'warn' }, ' Scheduled end is before the safe end!') : null,
-    );
+    const when = (ms: number): string => `${formatClock(ms, ctx.plantZone)}${ms <= now ? ' (passed)' : ` (in ${formatDuration(ms - now)})`}`;
+    return [
+      h('div', { class: 'hold' },
+        h('span', { class: 'label' }, 'Hold'),
+        h('span', null, s.holdMs !== null ? `${Math.floor(s.holdMs / 60_000)} min` : '—'),
+        w ? h('span', { class: 'muted small' }, `spec ${w.bath.minHoldMin}–${w.bath.maxHoldMin} min`) : null,
+        s.scheduledEndMs !== null ? h('span', { class: 'muted small' }, `· scheduled end ${when(s.scheduledEndMs)}`) : h('span', { class: 'muted small' }, '· no scheduled end'),
+      ),
+      h('div', { class: 'hold' },
+        h('span', { class: 'label' }, 'Safe end'),
+        safe === null
+          ? h('span', { class: 'muted' }, s.prediction ? 'not given by the prediction' : 'no prediction yet')
+          : h('span', { class: safe <= now ? 'ok' : '' }, when(safe)),
+        s.scheduledTooEarly ? h('strong', { class: 'warn' }, 'Scheduled end is before the safe end!') : null,
+      ),
+    ];
   }
 
   function renderStatus(): void {
@@ -259,11 +271,17 @@ export const boardView: ViewFactory = (ctx) => {
 
   // Clocks tick every second; when the stream is down the board polls; a full re-read every minute regardless.
   let lastFull = Date.now();
+  let lastRedraw = Date.now();
   const ticker = window.setInterval(() => {
     const now = Date.now();
     for (const el of grid.querySelectorAll<HTMLElement>('[data-since]')) {
       const since = Number(el.dataset['since']);
       if (since) el.textContent = formatDuration(now - since);
+    }
+    // "in 12 min" texts move on every half minute (not while someone is tabbing through the cards).
+    if (now - lastRedraw > 30_000 && !grid.contains(document.activeElement)) {
+      lastRedraw = now;
+      for (const l of lines) renderCard(l);
     }
     const live = ctx.stream.current.status === 'live';
     if (now - lastFull > (live ? SAFETY_NET_MS : POLL_WHEN_DOWN_MS)) {

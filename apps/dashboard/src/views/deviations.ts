@@ -4,7 +4,7 @@ import { setQuery } from '../app/router.js';
 import type { ViewFactory } from '../app/view.js';
 import { toCsv } from '../lib/csv.js';
 import { fmtDisposition, fmtRule } from '../lib/format.js';
-import { formatDateTime, formatIsoInZone, msToWallInput, wallTimeToMs } from '../lib/time.js';
+import { formatClock, formatDateTime, formatIsoInZone, msToWallInput, wallTimeToMs } from '../lib/time.js';
 import { deviationPanel } from '../ui/deviation-panel.js';
 import { button, field, h, link, replace } from '../ui/dom.js';
 import { infoBox, showError } from '../ui/notice.js';
@@ -47,7 +47,8 @@ export const deviationsView: ViewFactory = (ctx, route) => {
   const errors = h('div');
   const summary = h('div', { class: 'dev-summary', attrs: { 'aria-live': 'polite' } });
   const table = h('div', { class: 'table-wrap' });
-  const exportBtn = button('Export CSV', () => exportCsv(), { disabled: true });
+  const exportBtn = button('Export CSV', () => exportCsv());
+  exportBtn.disabled = true;
   const form = h(
     'form',
     { class: 'filters', on: { submit: (e) => { e.preventDefault(); apply(); } } },
@@ -157,8 +158,8 @@ export const deviationsView: ViewFactory = (ctx, route) => {
         h('tbody', null, ...shown.map((d) =>
           h('tr', { dataset: { deviationId: d.id } },
             h('td', { class: 'nowrap' }, link(`/deviations/${d.id}`, formatDateTime(d.openedAt, zone))),
-            h('td', null, d.line.code),
-            h('td', null, d.batch && d.batchId ? link(`/batches/${d.batchId}`, d.batch.code) : '—'),
+            h('td', { class: 'short' }, d.line.code),
+            h('td', { class: 'short' }, d.batch && d.batchId ? link(`/batches/${d.batchId}`, d.batch.code) : '—', d.channel ? h('span', { class: 'muted small' }, ` ${d.channel.code}`) : null),
             h('td', null, fmtRule(d.rule)),
             h('td', null, severityChip(d.severity)),
             h('td', null, statusChip(d.status)),
@@ -228,11 +229,16 @@ function deviationDetail(ctx: AppContext, id: string) {
   const body = h('div', null, loading());
   const el = h('section', { class: 'deviation-detail' }, h('div', { class: 'page-head' }, h('h1', null, 'Deviation'), link('/deviations', '← back to the list')), body);
   let disposed = false;
-  async function load(flash?: string): Promise<void> {
+  // What this person last did here stays said (re-reads after live events must not wipe it), with its time.
+  let flash: string | undefined;
+  async function load(): Promise<void> {
     try {
       const d = await ctx.api.get<DeviationWithAudit>(`/v1/deviations/${id}`);
       if (disposed) return;
-      replace(body, deviationPanel(ctx, d, (u) => void load(`Saved: the deviation is now ${u.status.toLowerCase()}.`), flash));
+      replace(body, deviationPanel(ctx, d, (u) => {
+        flash = `Saved at ${formatClock(Date.now(), ctx.plantZone, true)}: the deviation is now ${u.status.toLowerCase()}.`;
+        void load();
+      }, flash));
     } catch (error) {
       showError(body, error, 'Loading the deviation');
     }

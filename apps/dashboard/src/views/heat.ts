@@ -1,6 +1,6 @@
 import type { AnnotationOptions } from 'chartjs-plugin-annotation';
 import { ApiError } from '../api/client.js';
-import type { BatchDetail, BatchListItem, HeatDiagram, HeatWithRevisions, Page, Spec, SpecVersion } from '../api/types.js';
+import type { BatchDetail, BatchListItem, HeatAdvice, HeatDiagram, HeatWithRevisions, Page, Spec, SpecVersion } from '../api/types.js';
 import type { ViewFactory } from '../app/view.js';
 import { Chart, COLORS, setupCharts } from '../charts/setup.js';
 import { checkChemistry, chemistryConforms, type ElementCheck } from '../lib/chemistry.js';
@@ -16,10 +16,10 @@ import { facts, loading } from '../ui/widgets.js';
  * temperature–carbon diagram of this heat: T0 and T0′ (how much carbon austenite can take before
  * bainite stops), Ae3, the Bs and Ms levels, the heat's carbon and the bath window.
  *
- * The curves come from GET /v1/heats/:id/diagram when the API has it (requested of the prediction
- * work, issue 4). Until then the diagram shows what exists: the heat's carbon, the spec's bath window
- * and the Ae3/Bs/Ms/T0 values found in the predictions of the heat's loads, and says the curves are
- * missing rather than drawing invented ones.
+ * The curves come from GET /v1/heats/:id/diagram and the advised window and hardenability check from
+ * POST /v1/heats/:id/advice (issue 4). Where the API does not answer them (404: not there yet), the
+ * diagram shows what exists: the heat's carbon, the spec's bath window and the Ae3/Bs/Ms/T0 values found
+ * in the predictions of the heat's loads, and says the curves are missing rather than drawing invented ones.
  */
 
 export const heatView: ViewFactory = (ctx, route) => {
@@ -42,6 +42,9 @@ export const heatView: ViewFactory = (ctx, route) => {
   let batches: BatchListItem[] = [];
   let diagram: HeatDiagram | null = null;
   let diagramProblem: string | null = null;
+  let advice: HeatAdvice | null = null;
+  let adviceProblem: string | null = null;
+  let adviceFor: string | null = null;
   let predictions: Array<{ code: string; p: NonNullable<ReturnType<typeof readPrediction>> }> = [];
   let specId = route.query.get('spec');
 
@@ -58,13 +61,7 @@ export const heatView: ViewFactory = (ctx, route) => {
       if (!specId || !specs.some((s) => s.id === specId)) {
         specId = batches[0]?.specVersion.spec.id ?? specs.find((s) => s.material === hh.material)?.id ?? null;
       }
-      try {
-        diagram = await ctx.api.get<HeatDiagram>(`/v1/heats/${id}/diagram`, { query: { fromC: 150, toC: 950, stepC: 10 } });
-        diagramProblem = null;
-      } catch (error) {
-        diagram = null;
-        diagramProblem = error instanceof ApiError && error.status === 404 ? 'missing' : error instanceof Error ? error.message : String(error);
-      }
+      await loadDiagram();
       // Values the model computed for loads of this heat (newest first, at most five).
       const details = await Promise.all(batches.slice(0, 5).map((b) => ctx.api.get<BatchDetail>(`/v1/batches/${b.id}`)));
       predictions = details.flatMap((d) => {
@@ -72,10 +69,40 @@ export const heatView: ViewFactory = (ctx, route) => {
         return p ? [{ code: d.code, p }] : [];
       });
       render();
+      void loadAdvice();
     } catch (error) {
       showError(errors, error, 'Loading the heat');
       replace(head, h('h1', null, 'Heat'));
     }
+  }
+
+  const problemOf = (error: unknown): string => (error instanceof ApiError && error.status === 404 ? 'missing' : error instanceof Error ? error.message : String(error));
+
+  /** The heat's curves for the chosen spec (matrix carbon of iron depends on the spec's austenitize). */
+  async function loadDiagram(): Promise<void> {
+    try {
+      diagram = await ctx.api.get<HeatDiagram>(`/v1/heats/${id}/diagram`, { query: { fromC: 150, toC: 950, stepC: 10, ...(specId ? { specId } : {}) } });
+      diagramProblem = null;
+    } catch (error) {
+      diagram = null;
+      diagramProblem = problemOf(error);
+    }
+  }
+
+  /** Heat advice for the chosen spec: asked once per spec (it runs the model over a temperature scan). */
+  async function loadAdvice(): Promise<void> {
+    if (!specId || adviceFor === specId) return;
+    adviceFor = specId;
+    advice = null;
+    adviceProblem = 'loading';
+    render();
+    try {
+      advice = await ctx.api.post<HeatAdvice>(`/v1/heats/${id}/advice`, { specId });
+      adviceProblem = null;
+    } catch (error) {
+      adviceProblem = problemOf(error);
+    }
+    render();
   }
 
   function approvedVersion(spec: Spec | undefined): SpecVersion | null {
@@ -103,7 +130,10 @@ export const heatView: ViewFactory = (ctx, route) => {
         const q = new URLSearchParams(route.query);
         if (specId) q.set('spec', specId); else q.delete('spec');
         history.replaceState(null, '', `#/heats/${id}${q.toString() ? `?${q}` : ''}`);
-        render();
+        void loadDiagram().then(() => {
+          render();
+          void loadAdvice();
+        });
       },
     );
     chooser.id = 'heat-spec';
@@ -123,8 +153,31 @@ export const heatView: ViewFactory = (ctx, route) => {
         h('strong', null, 'Receipt check: '),
         !version ? 'choose a spec to check the chemistry against.' : !limited ? `${spec!.code} limits no element.` : conforms ? `chemistry inside every limit of ${spec!.code} v${version.version}.` : `chemistry NOT inside the limits of ${spec!.code} v${version.version}: ${checks.filter((c) => c.status === 'below' || c.status === 'above' || c.status === 'missing').map((c) => `${c.element} ${c.status}`).join(', ')}.`,
         minSiAl !== undefined ? h('div', null, `Si + Al = ${fmtWtPct(siAl, 2)} against the minimum of ${fmtWtPct(minSiAl, 2)} that keeps cementite out: `, h('strong', null, siAl >= minSiAl ? 'met' : 'NOT met')) : null,
-        h('div', { class: 'muted small' }, 'Hardenability against the section: not checked here yet (needs the heat advice of the prediction service).'),
+        hardenabilityLine(),
       ),
+    );
+  }
+
+  function hardenabilityLine(): HTMLElement {
+    if (advice) {
+      const hd = advice.receipt.hardenability;
+      const word = { ok: 'enough', 'at-risk': 'at risk', insufficient: 'NOT enough' }[hd.verdict];
+      return h('div', { class: hd.verdict === 'ok' ? '' : 'warn' }, `Hardenability for the section: ${word} (ideal critical diameter ${fmtNum(hd.idealCriticalDiameterMm, 0)} mm against ${fmtNum(hd.sectionEquivalentDiameterMm, 0)} mm equivalent). ${hd.message}`);
+    }
+    const why = adviceProblem === 'loading' ? 'asking the model…' : adviceProblem === 'missing' ? 'the heat advice is not available from the API yet' : adviceProblem ? `the heat advice failed: ${adviceProblem}` : 'choose a spec';
+    return h('div', { class: 'muted small' }, `Hardenability against the section: not checked (${why}).`);
+  }
+
+  function adviceBlock(): HTMLElement | null {
+    if (!advice) return null;
+    const w = advice.window;
+    const edge = (e: HeatAdvice['edges']['lower'], side: string) => (e ? h('li', null, `${side} edge ${fmtC(e.tempC, 0)}: ${e.messages.join('; ') || e.reasons.join(', ')}`) : null);
+    return h('div', { class: 'advice' },
+      h('h3', null, `Advised bath window (${Math.round(advice.confidence * 100)} % confidence, spec v${advice.specVersion})`),
+      w ? h('p', null, `${fmtC(w.minTempC, 0)} to ${fmtC(w.maxTempC, 0)}, hold at least ${fmtNum(w.minHoldMin, 0)} min${w.maxHoldMin !== null ? ` and at most ${fmtNum(w.maxHoldMin, 0)} min` : ''}${advice.recommended ? `; recommended ${fmtC(advice.recommended.tempC, 0)} for ${fmtNum(advice.recommended.holdMin, 0)} min` : ''}.`)
+        : h('p', { class: 'warn' }, 'No bath temperature meets every criterion with that confidence for this heat and section.'),
+      h('ul', { class: 'small' }, edge(advice.edges.lower, 'Lower'), edge(advice.edges.upper, 'Upper')),
+      advice.warnings.length > 0 ? h('ul', { class: 'warnings' }, ...advice.warnings.map((x) => h('li', null, '⚠ ', x))) : null,
     );
   }
 
@@ -138,8 +191,9 @@ export const heatView: ViewFactory = (ctx, route) => {
   }
 
   function renderDiagram(version: SpecVersion | null): void {
-    const carbon = heat!.chemistryWtPct['C'] ?? null;
     const isIron = heat!.material === 'DUCTILE_IRON';
+    // The austenite's carbon: the diagram's (for iron the matrix carbon); the heat's bulk C for steel otherwise.
+    const carbon = diagram?.meanCarbonWtPct ?? (isIron ? null : (heat!.chemistryWtPct['C'] ?? null));
     const datasets: Array<Record<string, unknown>> = [];
     const annotations: Record<string, AnnotationOptions> = {};
     const notes: Array<Node | string> = [];
@@ -162,41 +216,46 @@ export const heatView: ViewFactory = (ctx, route) => {
       );
       const t0Points = predictions.filter((x) => x.p.t0.bathTempC !== null && x.p.t0.t0CarbonWtPct !== null).map((x) => ({ x: x.p.t0.t0CarbonWtPct!, y: x.p.t0.bathTempC!, code: x.code }));
       const t0pPoints = predictions.filter((x) => x.p.t0.bathTempC !== null && x.p.t0.t0PrimeCarbonWtPct !== null).map((x) => ({ x: x.p.t0.t0PrimeCarbonWtPct!, y: x.p.t0.bathTempC!, code: x.code }));
-      if (t0Points.length > 0) datasets.push({ label: 'T0 at the bath temperature of a load', data: t0Points, borderColor: COLORS.t0, backgroundColor: COLORS.t0, pointRadius: 5, pointStyle: 'circle', showLine: false });
-      if (t0pPoints.length > 0) datasets.push({ label: 'T0′ at the bath temperature of a load', data: t0pPoints, borderColor: COLORS.t0Prime, backgroundColor: COLORS.t0Prime, pointRadius: 5, pointStyle: 'triangle', showLine: false });
+      if (t0Points.length > 0) datasets.push({ label: 'T0 at a load\u2019s bath temperature', data: t0Points, borderColor: '#0b0f12', borderWidth: 1.5, backgroundColor: COLORS.t0, pointRadius: 7, pointHoverRadius: 9, pointStyle: 'circle', showLine: false });
+      if (t0pPoints.length > 0) datasets.push({ label: 'T0\u2032 at a load\u2019s bath temperature', data: t0pPoints, borderColor: '#0b0f12', borderWidth: 1.5, backgroundColor: COLORS.t0Prime, pointRadius: 8, pointHoverRadius: 10, pointStyle: 'triangle', showLine: false });
       const ae3 = predictions.find((x) => x.p.temperaturesC.ae3 !== null)?.p.temperaturesC.ae3 ?? null;
-      if (ae3 !== null && carbon !== null && !isIron) datasets.push({ label: 'Ae3 of this heat', data: [{ x: carbon, y: ae3 }], borderColor: COLORS.ae3, backgroundColor: COLORS.ae3, pointRadius: 6, pointStyle: 'rectRot', showLine: false });
+      if (ae3 !== null && carbon !== null) datasets.push({ label: 'Ae3 at the heat\u2019s carbon', data: [{ x: carbon, y: ae3 }], borderColor: '#0b0f12', borderWidth: 1.5, backgroundColor: COLORS.ae3, pointRadius: 8, pointStyle: 'rectRot', showLine: false });
       if (predictions.length === 0) notes.push(' No load of this heat has a prediction yet.');
     }
     const level = (key: string, value: number | null, label: string, color: string) => {
       if (value === null) return;
-      annotations[key] = { type: 'line', yMin: value, yMax: value, borderColor: color, borderWidth: 1.5, borderDash: [8, 4], label: { display: true, content: `${label} ${fmtC(value, 0)}`, position: 'end', backgroundColor: 'rgba(16,20,24,0.85)', color } };
+      annotations[key] = { type: 'line', yMin: value, yMax: value, borderColor: color, borderWidth: 1.5, borderDash: [8, 4], label: { display: true, content: `${label} ${fmtC(value, 0)}`, position: 'end', yAdjust: -12, backgroundColor: 'rgba(16,20,24,0.85)', color } };
     };
     level('bs', bs, 'Bs', COLORS.bs);
     level('ms', ms, 'Ms', COLORS.ms);
-    if (carbon !== null && !isIron) {
-      annotations['carbon'] = { type: 'line', xMin: carbon, xMax: carbon, borderColor: COLORS.text, borderWidth: 1.5, label: { display: true, content: `heat C ${fmtNum(carbon, 2)} wt%`, position: 'start', backgroundColor: 'rgba(16,20,24,0.85)', color: COLORS.text } };
+    if (carbon !== null) {
+      annotations['carbon'] = { type: 'line', xMin: carbon, xMax: carbon, borderColor: COLORS.text, borderWidth: 1.5, label: { display: true, content: `${isIron ? 'matrix' : 'heat'} C ${fmtNum(carbon, 2)} wt%`, position: 'start', backgroundColor: 'rgba(16,20,24,0.85)', color: COLORS.text } };
+    } else if (isIron) {
+      notes.push(' For ductile iron the heat\u2019s total carbon (graphite included) is not the austenite carbon; the matrix carbon comes with the diagram.');
     }
-    if (isIron) notes.push(' For ductile iron the heat\u2019s total carbon (graphite included) is not the austenite carbon, so it is not drawn.');
-    const bath = diagram?.advisedBath ?? (version ? { minTempC: version.processWindow.bath.minTempC, maxTempC: version.processWindow.bath.maxTempC } : null);
+    if (diagram) for (const w of diagram.warnings) notes.push(` ${w}`);
+    const advised = advice?.window ?? diagram?.advisedBath ?? null;
+    const bath = advised ?? (version ? { minTempC: version.processWindow.bath.minTempC, maxTempC: version.processWindow.bath.maxTempC } : null);
     if (bath) {
       annotations['bath'] = {
         type: 'box', yMin: bath.minTempC, yMax: bath.maxTempC, backgroundColor: COLORS.band, borderColor: COLORS.bandEdge, borderWidth: 1,
-        label: { display: true, content: `${diagram?.advisedBath ? 'advised' : 'spec'} bath window ${bath.minTempC}–${bath.maxTempC} °C`, position: { x: 'end', y: 'center' }, color: COLORS.bandEdge },
+        label: { display: true, content: `${advised ? 'advised' : 'spec'} bath window ${fmtNum(bath.minTempC, 0)}–${fmtNum(bath.maxTempC, 0)} °C`, position: { x: 'start', y: 'start' }, yAdjust: -16, color: COLORS.bandEdge, font: { size: 12 } },
         drawTime: 'beforeDatasetsDraw',
       };
     }
     const ys = [bs, ms, bath?.minTempC, bath?.maxTempC, ...datasets.flatMap((d) => (d['data'] as Array<{ y: number }>).map((p) => p.y))].filter((v): v is number => typeof v === 'number');
     const xs = [carbon && !isIron ? carbon : null, ...datasets.flatMap((d) => (d['data'] as Array<{ x: number }>).map((p) => p.x))].filter((v): v is number => typeof v === 'number');
     const xMax = Math.max(1.6, ...xs.map((x) => x * 1.1));
-    const yMin = Math.min(150, ...ys) - 20;
-    const yMax = Math.max(900, ...ys) + 20;
+    // From a little below Ms (or the bath) to a little above Ae3 (or Bs): the range where the decisions are.
+    const yMin = Math.max(0, Math.floor((Math.min(...ys, 250) - 60) / 100) * 100);
+    const yMax = Math.ceil((Math.max(...ys, 600) + 60) / 100) * 100;
 
     replace(
       diagramCard,
       h('h2', null, 'Temperature (°C) against carbon (wt%)'),
       chartBox,
       notes.length > 0 ? h('p', { class: 'muted small chart-note' }, ...notes) : null,
+      adviceBlock(),
       h('p', { class: 'muted small' }, 'Bainite stops when the austenite around it reaches the T0′ carbon at the bath temperature: the further T0′ lies right of the heat\u2019s carbon, the more bainite can form. Keep the bath between Ms and Bs with the spec\u2019s margins.'),
     );
     const config = {
@@ -206,7 +265,7 @@ export const heatView: ViewFactory = (ctx, route) => {
         animation: false as const,
         scales: {
           x: { type: 'linear' as const, min: 0, max: Math.ceil(xMax * 10) / 10, title: { display: true, text: 'Carbon in austenite (wt%)' } },
-          y: { type: 'linear' as const, min: Math.floor(yMin / 50) * 50, max: Math.ceil(yMax / 50) * 50, title: { display: true, text: 'Temperature (°C)' } },
+          y: { type: 'linear' as const, min: yMin, max: yMax, ticks: { stepSize: 50 }, title: { display: true, text: 'Temperature (°C)' } },
         },
         plugins: {
           legend: { position: 'top' as const, align: 'end' as const },

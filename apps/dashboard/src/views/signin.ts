@@ -3,7 +3,8 @@ import type { ViewFactory } from '../app/view.js';
 import { navigate } from '../app/router.js';
 import { plantZoneLabel } from '../lib/time.js';
 import { button, field, h, replace } from '../ui/dom.js';
-import { showError } from '../ui/notice.js';
+import { ApiError } from '../api/client.js';
+import { errorBox, showError } from '../ui/notice.js';
 
 /** Sign-in with e-mail and password (POST /v1/auth/login); the session lasts one shift (SESSION_TTL_MIN). */
 export const signInView: ViewFactory = (ctx, route) => {
@@ -45,7 +46,11 @@ export const signInView: ViewFactory = (ctx, route) => {
       navigate(next.startsWith('/signin') ? '/board' : next, true);
     } catch (error) {
       password.value = '';
-      showError(errors, error, 'Signing in');
+      if (error instanceof ApiError && error.status === 401) {
+        replace(errors, errorBox({ title: 'Sign-in refused', detail: `${error.message}. Check both and try again; after repeated failures ask an admin.`, issues: [] }));
+      } else {
+        showError(errors, error, 'Signing in');
+      }
       password.focus();
     } finally {
       submit.disabled = false;
