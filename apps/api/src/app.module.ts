@@ -9,6 +9,7 @@ import { DriftModule } from './drift/drift.module.js';
 import { IngestModule } from './ingest/ingest.module.js';
 import { JsonLogger } from './http/logger.js';
 import { OpsModule } from './ops/ops.module.js';
+import { PredictionsModule } from './predictions/predictions.module.js';
 import { PrismaModule } from './prisma.provider.js';
 import { PyrometryModule } from './pyrometry/pyrometry.module.js';
 import { QueriesModule } from './queries/queries.module.js';
@@ -55,6 +56,8 @@ export class AppModule {
         DriftModule,
         CalibrationModule,
         CertificatesModule,
+        // Predictions, verdicts, hold advice read side, heat advice and diagram (issue 4 items 1–3, 6; PC1).
+        PredictionsModule,
       ],
     };
   }

@@ -118,6 +118,11 @@ export const ENDPOINT_MATRIX: readonly EndpointEntry[] = [
   { method: 'GET', path: '/v1/equipment/:id/suspect-triggers', access: SIGNED_IN },
   { method: 'POST', path: '/v1/pyrometry/overdue-sweep', access: { roles: ['ADMIN', 'QUALITY'] } },
 
+  // --- predictions (PC1, issue 4 items 1–3, 6): everyone signed in reads; the heat advice is a computation, not a write
+  { method: 'GET', path: '/v1/batches/:id/predictions', access: SIGNED_IN },
+  { method: 'POST', path: '/v1/heats/:id/advice', access: SIGNED_IN },
+  { method: 'GET', path: '/v1/heats/:id/diagram', access: SIGNED_IN },
+
   // --- drift across lots, lab calibration, certificate data (PC2, issue 4 items 4, 5, 7): everyone signed in
   // reads; QUALITY sets a draft spec version's drift-chart settings ----------------------------------
   { method: 'GET', path: '/v1/drift', access: SIGNED_IN },
