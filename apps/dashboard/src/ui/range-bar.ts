@@ -45,9 +45,16 @@ export function rangeBar(input: RangeBarInput): HTMLElement {
     track.append(zone);
     for (const [v, name] of [[specMin, 'min'], [specMax, 'max']] as const) {
       if (v === null) continue;
-      const edge = h('div', { class: 'range-limit', attrs: { title: `spec ${name} ${fmtNum(v, digits)} ${input.unit}` } }, h('span', null, `${name} ${fmtNum(v, digits)}`));
+      // One label for a two-sided spec (centred over the zone), so close limits never overprint.
+      const label = specMin !== null && specMax !== null ? null : h('span', null, `${name} ${fmtNum(v, digits)}`);
+      const edge = h('div', { class: 'range-limit', attrs: { title: `spec ${name} ${fmtNum(v, digits)} ${input.unit}` } }, label);
       edge.style.left = pos(v);
       track.append(edge);
+    }
+    if (specMin !== null && specMax !== null) {
+      const label = h('div', { class: 'range-spec-label' }, `spec ${fmtNum(specMin, digits)}–${fmtNum(specMax, digits)}`);
+      label.style.left = pos((specMin + specMax) / 2);
+      track.append(label);
     }
   }
   if (input.band) {

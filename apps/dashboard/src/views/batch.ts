@@ -346,14 +346,17 @@ export const batchView: ViewFactory = (ctx, route) => {
       h('div', { class: 'verdict-head' }, verdictBadge(s.verdict, 'No criteria judged'), h('span', { class: 'muted small' }, ` model ${p.modelVersion ?? '?'}, computed ${formatClock(p.createdAtMs, zone, true)}${p.watermarkMs ? `, data to ${formatClock(p.watermarkMs, zone, true)}` : ''}`)),
       p.verdicts.length === 0
         ? h('p', { class: 'muted' }, 'The prediction carries no verdicts per criterion.')
-        : h('ul', { class: 'verdicts' }, ...p.verdicts.map((v) =>
-            h('li', { dataset: { criterion: v.criterion, verdict: v.verdict } }, verdictBadge(v.verdict), ' ', h('strong', null, criterionName(v.criterion)),
-              v.band ? h('span', { class: 'muted' }, ` · p05–p95 ${verdictValue(v.band.p05, v.unit, false)}–${verdictValue(v.band.p95, v.unit)}`) : null,
-              v.limitMin !== null || v.limitMax !== null
-                ? h('span', { class: 'muted' }, ` · spec ${v.limitMin !== null ? verdictValue(v.limitMin, v.unit, false) : '…'}–${v.limitMax !== null ? verdictValue(v.limitMax, v.unit) : '…'}`)
-                : v.limit !== null ? h('span', { class: 'muted' }, ` · limit ${verdictValue(v.limit, v.unit)}`) : null,
-              v.message ? h('div', { class: 'small' }, v.message) : null,
-              v.verdict !== 'conforming' && v.drivers.length > 0 ? h('div', { class: 'small muted' }, `Why: ${v.drivers.join('; ')}`) : null))),
+        : h('ul', { class: 'verdicts' }, ...sortVerdicts(p.verdicts).map((v) =>
+            // One line each with the numbers; the model's sentence and what drove it open on demand.
+            h('li', { dataset: { criterion: v.criterion, verdict: v.verdict } },
+              h('details', null,
+                h('summary', null, verdictBadge(v.verdict), ' ', h('strong', null, criterionName(v.criterion)),
+                  v.band ? h('span', { class: 'muted' }, ` · p05–p95 ${verdictValue(v.band.p05, v.unit, false)}–${verdictValue(v.band.p95, v.unit)}`) : null,
+                  v.limitMin !== null || v.limitMax !== null
+                    ? h('span', { class: 'muted' }, ` · spec ${v.limitMin !== null ? verdictValue(v.limitMin, v.unit, false) : '…'}–${v.limitMax !== null ? verdictValue(v.limitMax, v.unit) : '…'}`)
+                    : v.limit !== null ? h('span', { class: 'muted' }, ` · limit ${verdictValue(v.limit, v.unit)}`) : null),
+                v.message ? h('p', { class: 'small' }, v.message) : null,
+                v.drivers.length > 0 ? h('p', { class: 'small muted' }, `Why: ${v.drivers.join('; ')}`) : null)))),
       facts([
         ['Earliest safe end', s.earliestSafeEndMs !== null ? `${formatClock(s.earliestSafeEndMs, zone)}${s.intoBathMs !== null ? ` (${fmtMin((s.earliestSafeEndMs - s.intoBathMs) / 60_000)} in bath)` : ''}` : `none${p.hold.reason ? `: ${p.hold.reason}` : ''}`],
         ['Set by', p.hold.limiting.length > 0 ? p.hold.limiting.map(criterionName).join(', ') : '—'],
@@ -363,7 +366,10 @@ export const batchView: ViewFactory = (ctx, route) => {
         ['Ms / Bs', `${fmtC(p.temperaturesC.ms, 0)} / ${fmtC(p.temperaturesC.bs, 0)}`],
       ]),
       s.scheduledTooEarly ? h('p', { class: 'notice error' }, 'The scheduled end of hold is before the earliest safe end: the load would leave the bath before it has transformed enough.') : null,
-      p.warnings.length > 0 ? h('ul', { class: 'warnings' }, ...p.warnings.map((w) => h('li', null, '⚠ ', w))) : null,
+      p.warnings.length > 0
+        ? h('details', { class: 'warnings-box' }, h('summary', null, `⚠ ${p.warnings.length} model warning${p.warnings.length === 1 ? '' : 's'} (assumptions and limits of this prediction)`),
+            h('ul', { class: 'warnings' }, ...p.warnings.map((w) => h('li', null, w))))
+        : null,
       releaseCaution('hold'),
       releaseCaution('prediction'),
     );
@@ -547,6 +553,12 @@ export const batchView: ViewFactory = (ctx, route) => {
     },
   };
 };
+
+/** Worst first, so what needs attention is at the top. */
+function sortVerdicts(list: PredictionView['verdicts']): PredictionView['verdicts'] {
+  const rank = { nonconforming: 0, 'at-risk': 1, conforming: 2 } as const;
+  return list.slice().sort((a, b) => rank[a.verdict] - rank[b.verdict]);
+}
 
 /** A verdict's number in its unit: fractions as vol%, hardness and strength whole, the rest to 2 places. */
 function verdictValue(v: number, unit: string | null, withUnit = true): string {

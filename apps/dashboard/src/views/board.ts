@@ -140,7 +140,8 @@ export const boardView: ViewFactory = (ctx) => {
   function renderCard(l: LineData): void {
     const cardEl = cards.get(l.line.id);
     if (!cardEl) return;
-    const devs = openDeviations.filter((d) => d.lineId === l.line.id);
+    const rank: Record<string, number> = { CRITICAL: 0, MAJOR: 1, MINOR: 2 };
+    const devs = openDeviations.filter((d) => d.lineId === l.line.id).sort((a, b) => (rank[a.severity] ?? 3) - (rank[b.severity] ?? 3) || b.openedAt.localeCompare(a.openedAt));
     const now = Date.now();
     replace(
       cardEl,
@@ -220,7 +221,7 @@ export const boardView: ViewFactory = (ctx) => {
       { class: 'bainite' },
       h('span', { class: 'label' }, 'Bainite'),
       gauge({ value: s.bainiteNow, ceiling: s.ceiling, scaleMax: 1, limit: minFraction, label: `bainite ${fmtVolPct(s.bainiteNow)} of a ceiling of ${fmtVolPct(s.ceiling)}` }),
-      h('span', null, fmtVolPct(s.bainiteNow, 0), h('span', { class: 'muted' }, ` of ceiling ${fmtVolPct(s.ceiling, 0)}`)),
+      h('span', null, fmtVolPct(s.bainiteNow, 0), h('span', { class: 'muted' }, ` of ceiling ${fmtVolPct(s.ceiling, 0)}${minFraction !== null ? ` (spec ≥ ${fmtVolPct(minFraction, 0)})` : ''}`)),
     );
   }
 
@@ -237,7 +238,7 @@ export const boardView: ViewFactory = (ctx) => {
       h('div', { class: 'hold' },
         h('span', { class: 'label' }, 'Safe end'),
         safe === null
-          ? h('span', { class: 'muted' }, s.prediction ? 'not given by the prediction' : 'no prediction yet')
+          ? h('span', { class: s.prediction ? 'warn' : 'muted' }, s.prediction ? `none${s.prediction.hold.reason ? `: ${s.prediction.hold.reason}` : ' given by the prediction'}` : 'no prediction yet')
           : h('span', { class: safe <= now ? 'ok' : '' }, when(safe)),
         s.scheduledTooEarly ? h('strong', { class: 'warn' }, 'Scheduled end is before the safe end!') : null,
       ),
