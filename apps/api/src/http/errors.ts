@@ -34,6 +34,18 @@ export interface ErrorBody {
 /** At most this many issues are listed; the message says how many there were. */
 export const MAX_LISTED_ISSUES = 100;
 
+/**
+ * Longest message and issue texts in a reply. Messages may quote the offending value; the fuzz suite
+ * found a 100,000-character testStandard echoed whole into the 400, so quotes are cut here, once.
+ */
+export const MAX_MESSAGE_CHARS = 500;
+export const MAX_ISSUE_MESSAGE_CHARS = 300;
+export const MAX_ISSUE_PATH_CHARS = 200;
+
+function clip(text: string, max: number): string {
+  return text.length <= max ? text : `${text.slice(0, max - 1)}…`;
+}
+
 export class ApiError extends HttpException {
   constructor(
     status: number,
@@ -92,10 +104,12 @@ function oneLine(text: string): string {
 /** Maps zod issues to {path, message}; `root` prefixes every path (e.g. 'query'), '' for bodies. */
 export function issuesFromZod(error: ZodError, root = ''): ErrorIssue[] {
   const issues: ErrorIssue[] = [];
+  // An empty field name shows as "" (it would otherwise vanish from the path).
+  const segment = (part: PropertyKey): string => (part === '' ? '""' : String(part));
   for (const issue of error.issues) {
-    const base = [root, ...issue.path.map(String)].filter((p) => p !== '');
+    const base = [...(root === '' ? [] : [root]), ...issue.path.map(segment)];
     if (issue.code === 'unrecognized_keys') {
-      for (const key of issue.keys) issues.push({ path: [...base, key].join('.'), message: 'unknown field' });
+      for (const key of issue.keys) issues.push({ path: [...base, segment(key)].join('.'), message: 'unknown field' });
       continue;
     }
     issues.push({ path: base.length > 0 ? base.join('.') : root || 'body', message: issue.message });
@@ -130,8 +144,8 @@ export function toErrorBody(exception: unknown): { body: ErrorBody; unexpected: 
   const make = (status: number, message: string, issues: ErrorIssue[] = []): ErrorBody => ({
     statusCode: status,
     error: statusText(status),
-    message,
-    issues: issues.slice(0, MAX_LISTED_ISSUES),
+    message: clip(message, MAX_MESSAGE_CHARS),
+    issues: issues.slice(0, MAX_LISTED_ISSUES).map((i) => ({ path: clip(i.path, MAX_ISSUE_PATH_CHARS), message: clip(i.message, MAX_ISSUE_MESSAGE_CHARS) })),
   });
 
   // Nest's Express adapter wraps body-parser failures in an HttpException; explain them ourselves.
