@@ -27,6 +27,7 @@ import { ApiExceptionFilter } from './http/errors.js';
 import { JsonLogger } from './http/logger.js';
 import { setupOpenApi } from './http/openapi.js';
 import { requestContextMiddleware } from './http/request-context.js';
+import { inputSafetyMiddleware } from './http/input-safety.js';
 import { requestLogMiddleware } from './http/request-log.js';
 import { corsOptions, securityHeadersMiddleware } from './http/security.js';
 
@@ -69,6 +70,7 @@ export async function buildApiApp(config: ApiConfig, options: Pick<ApiAppOptions
   app.use(requestLogMiddleware(logger));
   app.useBodyParser('json', { limit: BODY_LIMIT_BYTES, type: ['application/json', 'application/*+json'], strict: true });
   app.useBodyParser('text', { limit: BODY_LIMIT_BYTES, type: ['text/csv', 'text/plain'] });
+  app.use(inputSafetyMiddleware);
 
   const cors = corsOptions(config.CORS_ORIGINS);
   if (cors) app.enableCors(cors);

@@ -1,6 +1,7 @@
 import { type ArgumentMetadata, Injectable, type PipeTransform } from '@nestjs/common';
 import { z } from 'zod';
 import { badRequest, issuesFromZod, MAX_LISTED_ISSUES, summarizeIssues } from './errors.js';
+import { unsafeInputIssues } from './input-safety.js';
 
 /**
  * Validation at the HTTP edge. Controllers take `@Body() body: unknown` and call
@@ -25,9 +26,12 @@ export function parseParams<S extends z.ZodType>(schema: S, params: unknown): z.
 }
 
 function parseWith<S extends z.ZodType>(schema: S, value: unknown, root: string, what: string): z.output<S> {
+  // Text the database cannot store (U+0000, lone surrogates), '__proto__' keys, absurd nesting: refused
+  // before the schema, whatever it says (a query string reaches Prisma only through here).
+  const unsafe = unsafeInputIssues(value, root);
   const result = schema.safeParse(value);
-  if (result.success) return result.data;
-  const issues = issuesFromZod(result.error, root);
+  if (result.success && unsafe.length === 0) return result.data;
+  const issues = [...unsafe, ...(result.success ? [] : issuesFromZod(result.error, root))];
   const message = summarizeIssues(what, issues) + (issues.length > MAX_LISTED_ISSUES ? ` — first ${MAX_LISTED_ISSUES} listed` : '');
   throw badRequest(message, issues);
 }

@@ -1,0 +1,102 @@
+import type { IncomingMessage, ServerResponse } from 'node:http';
+import { badRequest, MAX_LISTED_ISSUES, summarizeIssues, type ErrorIssue } from './errors.js';
+
+/**
+ * Input no endpoint can take, refused with a 400 naming the place before any handler, interceptor or
+ * schema sees it (found by the fuzz suite, tests/fuzz):
+ *
+ *   - U+0000 in a string or a field name: PostgreSQL text and jsonb cannot hold it, so the insert
+ *     failed with a 500 (and the value could never be stored verbatim anyway);
+ *   - a lone UTF-16 surrogate ("\ud800" in JSON): not Unicode text; stored as U+FFFD it would no
+ *     longer be the value the client sent;
+ *   - a field named "__proto__": assigning it on a plain object sets the prototype instead of a field,
+ *     so a record schema (chemistry, agitation coefficients) silently dropped it, and a misspelt field
+ *     silently ignored is a lost value;
+ *   - nesting deeper than MAX_INPUT_DEPTH: no payload needs it, and recursive code downstream (the
+ *     Idempotency-Key fingerprint) overflowed the stack with a 500.
+ *
+ * The walk is iterative, so a hostile depth cannot overflow it either.
+ */
+export const MAX_INPUT_DEPTH = 32;
+
+const LONE_SURROGATE = /[\ud800-\udbff](?![\udc00-\udfff])|(?<![\ud800-\udbff])[\udc00-\udfff]/;
+
+/** What is wrong with a piece of text, or undefined when it can be stored as sent. */
+export function unstorableText(text: string): string | undefined {
+  if (text.includes('\u0000')) return 'contains a NUL character (U+0000), which cannot be stored';
+  if (LONE_SURROGATE.test(text)) return 'contains a lone UTF-16 surrogate, which is not Unicode text';
+  return undefined;
+}
+
+function join(path: string, key: string | number): string {
+  const part = key === '' ? '""' : String(key);
+  return path === '' ? part : `${path}.${part}`;
+}
+
+/**
+ * Issues for a parsed JSON value (or a query/params object); `root` prefixes the paths ('query',
+ * 'params', '' for bodies). Stops after MAX_LISTED_ISSUES + 1 issues.
+ */
+export function unsafeInputIssues(value: unknown, root = ''): ErrorIssue[] {
+  const issues: ErrorIssue[] = [];
+  const stack: Array<{ value: unknown; path: string; depth: number }> = [{ value, path: root, depth: 0 }];
+  while (stack.length > 0 && issues.length <= MAX_LISTED_ISSUES) {
+    const node = stack.pop()!;
+    if (typeof node.value === 'string') {
+      const problem = unstorableText(node.value);
+      if (problem) issues.push({ path: node.path || 'body', message: problem });
+      continue;
+    }
+    if (node.value === null || typeof node.value !== 'object') continue;
+    if (node.depth >= MAX_INPUT_DEPTH) {
+      issues.push({ path: node.path || 'body', message: `nested more than ${MAX_INPUT_DEPTH} levels deep` });
+      continue;
+    }
+    if (Array.isArray(node.value)) {
+      for (let i = node.value.length - 1; i >= 0; i--) stack.push({ value: node.value[i], path: join(node.path, i), depth: node.depth + 1 });
+      continue;
+    }
+    const keys = Object.keys(node.value);
+    for (let i = keys.length - 1; i >= 0; i--) {
+      const key = keys[i]!;
+      const path = join(node.path, key);
+      if (key === '__proto__') {
+        issues.push({ path, message: "'__proto__' is not allowed as a field name" });
+        continue;
+      }
+      const problem = unstorableText(key);
+      if (problem) {
+        issues.push({ path, message: `field name ${problem}` });
+        continue;
+      }
+      stack.push({ value: (node.value as Record<string, unknown>)[key], path, depth: node.depth + 1 });
+    }
+  }
+  return issues;
+}
+
+/** Issues for a text body (CSV): where the first bad characters are, by line and column. */
+export function unsafeTextIssues(text: string): ErrorIssue[] {
+  const issues: ErrorIssue[] = [];
+  const lines = text.split(/\r\n|\n|\r/);
+  for (let i = 0; i < lines.length && issues.length < MAX_LISTED_ISSUES; i++) {
+    const line = lines[i]!;
+    const problem = unstorableText(line);
+    if (!problem) continue;
+    const nul = line.indexOf('\u0000');
+    const column = (nul >= 0 ? nul : line.search(LONE_SURROGATE)) + 1;
+    issues.push({ path: 'body', message: `line ${i + 1}, column ${column}: ${problem}` });
+  }
+  return issues;
+}
+
+/**
+ * Express middleware, after the body parsers: refuses a request whose parsed body holds input that
+ * unsafeInputIssues / unsafeTextIssues report, with the API's 400 (through the global error filter).
+ */
+export function inputSafetyMiddleware(req: IncomingMessage, _res: ServerResponse, next: (error?: unknown) => void): void {
+  const body = (req as IncomingMessage & { body?: unknown }).body;
+  const issues = typeof body === 'string' ? unsafeTextIssues(body) : body !== null && typeof body === 'object' ? unsafeInputIssues(body) : [];
+  if (issues.length === 0) return next();
+  next(badRequest(summarizeIssues('request body', issues), issues.slice(0, MAX_LISTED_ISSUES)));
+}
