@@ -11,18 +11,29 @@ import { z } from 'zod';
 // Shared pieces
 // ---------------------------------------------------------------------------------------------
 
-/** Instant as sent by a device: ISO 8601 with offset ('Z' or '+01:00') or epoch milliseconds. */
+/** Device times must lie in 2000-01-01 .. 2100-01-01 (UTC), whichever way they are written. */
+const DEVICE_TIME_MIN_MS = 946_684_800_000;
+const DEVICE_TIME_MAX_MS = 4_102_444_800_000;
+
+/**
+ * Instant as sent by a device: ISO 8601 with offset ('Z' or '+01:00') or epoch milliseconds.
+ * Both forms have the same calendar bounds: a date-time of year 0001 or 9999 is a wrong clock, not a
+ * measurement (the fuzz suite found year-0001 samples answered 500 and year-0001 events stored).
+ */
 export const DeviceTime = z.union([
-  z.iso.datetime({
-    offset: true,
-    error: 'expected an ISO 8601 date-time with offset (e.g. 2026-03-01T08:00:00.000+01:00) or epoch milliseconds',
-  }),
+  z
+    .iso.datetime({
+      offset: true,
+      error: 'expected an ISO 8601 date-time with offset (e.g. 2026-03-01T08:00:00.000+01:00) or epoch milliseconds',
+    })
+    .refine((t) => Date.parse(t) >= DEVICE_TIME_MIN_MS, 'date-time before 2000-01-01 (check the device clock)')
+    .refine((t) => Date.parse(t) <= DEVICE_TIME_MAX_MS, 'date-time after 2100-01-01 (check the device clock)'),
   z
     .number({ error: 'expected an ISO 8601 date-time with offset or epoch milliseconds' })
     .int('epoch milliseconds must be an integer')
     // 2000-01-01 .. 2100-01-01: catches seconds sent where milliseconds are expected.
-    .min(946_684_800_000, 'epoch milliseconds before 2000-01-01 (seconds sent instead of milliseconds?)')
-    .max(4_102_444_800_000, 'epoch milliseconds after 2100-01-01'),
+    .min(DEVICE_TIME_MIN_MS, 'epoch milliseconds before 2000-01-01 (seconds sent instead of milliseconds?)')
+    .max(DEVICE_TIME_MAX_MS, 'epoch milliseconds after 2100-01-01'),
 ]);
 export type DeviceTime = z.infer<typeof DeviceTime>;
 
