@@ -10,7 +10,9 @@ import { adminView } from './views/admin.js';
 import { batchView } from './views/batch.js';
 import { batchesView } from './views/batches.js';
 import { boardView } from './views/board.js';
+import { certificateView } from './views/certificate.js';
 import { deviationsView } from './views/deviations.js';
+import { driftView } from './views/drift.js';
 import { heatView } from './views/heat.js';
 import { heatsView } from './views/heats.js';
 import { signInView } from './views/signin.js';
@@ -26,7 +28,9 @@ const root = document.getElementById('app')!;
 const ROUTES: Record<string, ViewFactory> = {
   signin: signInView,
   board: boardView,
-  batches: (c, r) => (r.parts[1] ? batchView(c, r) : batchesView(c, r)),
+  batches: (c, r) => (r.parts[2] === 'certificate' ? certificateView(c, r) : r.parts[1] ? batchView(c, r) : batchesView(c, r)),
+  lots: certificateView,
+  drift: driftView,
   heats: (c, r) => (r.parts[1] ? heatView(c, r) : heatsView(c, r)),
   deviations: deviationsView,
   admin: adminView,
@@ -37,6 +41,7 @@ const NAV: Array<{ route: string; label: string; key: string }> = [
   { route: '/batches', label: 'Loads', key: 'batches' },
   { route: '/heats', label: 'Heats', key: 'heats' },
   { route: '/deviations', label: 'Deviations', key: 'deviations' },
+  { route: '/drift', label: 'Drift', key: 'drift' },
   { route: '/admin', label: 'Plant & specs', key: 'admin' },
 ];
 

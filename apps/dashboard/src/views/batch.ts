@@ -106,6 +106,8 @@ export const batchView: ViewFactory = (ctx, route) => {
       h('span', { class: 'step' }, fmtBatchStatus(d.status)),
       verdictBadge(s.verdict),
       h('span', { class: 'muted small', attrs: { 'aria-live': 'polite' } }, `Read at ${formatClock(now, zone, true)} · times in ${zone}`),
+      link(`/batches/${d.id}/certificate`, 'Certificate record'),
+      link(`/drift?specId=${d.spec.id}&lineId=${d.line.id}`, 'Drift of this product'),
     );
     renderSummary(d, s, w);
     renderTemperatures(d, s, w);
