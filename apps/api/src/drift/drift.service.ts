@@ -110,7 +110,9 @@ export class DriftQueryService {
         firstSpecBreach: null,
       };
     }
-    const limits: StoredLimits = { version: latest.version, source: latest.source as StoredLimits['source'], limits: latest.limits as unknown as FrozenLimits };
+    // The stored JSON carries the chart's unit beside the FrozenLimits; the chart gets the limits alone, as in the worker.
+    const { unit: _unit, ...frozen } = latest.limits as unknown as FrozenLimits & { unit?: string };
+    const limits: StoredLimits = { version: latest.version, source: latest.source as StoredLimits['source'], limits: frozen };
     const chart = chartDrift({ product: spec.code, line: line.code, metric, lots, limits, settings, specLimits });
     const deviations = await this.prisma.deviation.findMany({
       where: { rule: 'drift', productSpecId: spec.id, lineId: line.id, dedupKey: { startsWith: `drift:${spec.id}:${line.id}:${metric}:` } },

@@ -49,6 +49,12 @@ export class DriftTargetNotFoundError extends Error {
 /** Limits as stored: libs/compliance FrozenLimits plus the unit the chart was in when they were set. */
 type StoredLimitsJson = FrozenLimits & { unit?: string };
 
+/** The FrozenLimits of a stored row, without the unit (evidence must not differ between the run that set the limits and later runs). */
+export function frozenOf(json: unknown): FrozenLimits {
+  const { unit: _unit, ...limits } = json as StoredLimitsJson;
+  return limits;
+}
+
 /** The spec version whose drift settings and limits judge the chart: the approved one in force, else the newest. */
 async function inForceVersion(tx: Tx, specId: string) {
   return (
@@ -133,7 +139,7 @@ export class DriftService {
           }
           const lots = await chartLots(tx, productSpecId, lineId, metric, unit);
           const latest = await tx.driftLimits.findFirst({ where: base, orderBy: { version: 'desc' } });
-          let stored: StoredLimits | null = latest ? { version: latest.version, source: latest.source as StoredLimits['source'], limits: latest.limits as unknown as FrozenLimits } : null;
+          let stored: StoredLimits | null = latest ? { version: latest.version, source: latest.source as StoredLimits['source'], limits: frozenOf(latest.limits) } : null;
           const storedUnit = latest ? ((latest.limits as unknown as StoredLimitsJson).unit ?? unit) : unit;
           // Limits set in another unit (the spec changed its hardness scale) cannot judge this chart: set new ones.
           let decision = decideLimits(storedUnit === unit ? stored : null, lots, m, settings);
