@@ -2,7 +2,7 @@
  * The line simulator on its own, against an Ausline API that is already running:
  *
  *   npx tsx apps/line-sim/src/main.ts [--api-url http://127.0.0.1:3000] [--speed 600|max] [--hours 24]
- *        [--scenario auto|demo-day|routine] [--until now|never] [--state .ausline-demo/state.json]
+ *        [--scenario auto|demo-day|routine] [--until now|never] [--state .ausline-demo/state-ausline_demo.json]
  *
  * It needs the plant set up (ids and controller keys in the state file): `npm run demo` does that, or give
  * an admin's credentials in AUSLINE_ADMIN_EMAIL / AUSLINE_ADMIN_PASSWORD and this sets the plant up itself
@@ -12,11 +12,19 @@
  * caught up with now, then goes on in real time; timestamps are plant time, always in the past.
  * Ctrl-C stops generating, sends what is buffered (at most 15 s) and saves where the plant stopped.
  */
+import { join } from 'node:path';
 import { parseArgs } from 'node:util';
 import { ApiClient } from './http.js';
 import { formatLogEvent, loadState, parseSpeed, runPlant, saveState } from './run.js';
 import { setupDemoPlant } from './setup.js';
 import type { Simulator } from './simulator.js';
+
+/** Where `npm run demo` keeps its state for the database at DATABASE_URL (default ausline_demo). */
+function defaultStatePath(): string {
+  if (process.env.AUSLINE_DEMO_STATE) return process.env.AUSLINE_DEMO_STATE;
+  const dbName = new URL(process.env.DATABASE_URL || 'postgresql://postgres@127.0.0.1:5432/ausline_demo').pathname.slice(1) || 'ausline_demo';
+  return join(process.env.AUSLINE_DEMO_STATE_DIR ?? '.ausline-demo', `state-${dbName}.json`);
+}
 
 const USAGE =
   'usage: npx tsx apps/line-sim/src/main.ts [--api-url URL] [--speed N|max] [--hours H] [--scenario auto|demo-day|routine] [--until now|never] [--state FILE] [--quiet]';
@@ -32,7 +40,7 @@ async function main(argv: string[]): Promise<number> {
         hours: { type: 'string', default: '24' },
         scenario: { type: 'string', default: 'auto' },
         until: { type: 'string', default: 'never' },
-        state: { type: 'string', default: process.env.AUSLINE_DEMO_STATE ?? '.ausline-demo/state.json' },
+        state: { type: 'string', default: defaultStatePath() },
         quiet: { type: 'boolean', default: false },
         help: { type: 'boolean', default: false },
       },
