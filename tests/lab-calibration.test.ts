@@ -79,7 +79,7 @@ describe('lab results against predicted bands, with a running calibration', () =
     // Six loads whose lab hardness sits ~18 HV below the predicted p50 with a few HV of scatter: all inside the
     // raw ±40 HV band, so nothing is raised, while the calibration learns the bias and the small spread.
     const measuredHV = [380, 386, 383, 378, 384, 381];
-    const batches = [];
+    const batches: { id: string }[] = [];
     for (let i = 0; i < measuredHV.length + 2; i++) {
       const b = await createBatch(prisma, plant, `CAL-${i + 1}`);
       await writePrediction(prisma, b.id, { hardnessHV: RAW });
