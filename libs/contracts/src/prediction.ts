@@ -177,8 +177,9 @@ export type PredictionMilestone = z.infer<typeof PredictionMilestone>;
 
 /**
  * A stored prediction as the API serves it (never with the engine state). Per batch the rows are: the rolling
- * latest (highest version; updated in place while nothing notable happens, `milestone` null) and one row kept at
- * each milestone. A retried recompute over the same inputs (same `inputDigest` and model version) writes nothing.
+ * latest (highest version; updated in place while nothing notable happens, `milestone` null), one row kept at each
+ * milestone (labelled) and the prediction just before each milestone (`milestone` null, not the highest version).
+ * A retried recompute over the same inputs (same `inputDigest` and model version) writes nothing.
  */
 export const PredictionRow = z.object({
   id: z.string(),

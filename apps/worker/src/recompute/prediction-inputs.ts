@@ -31,6 +31,8 @@ export interface PredictionStepInputs {
   agitatorRpm: Array<{ tMs: number; value: number }>;
   latest: LatestPrediction | null;
   uncertainty: { samples: number; seed: number };
+  /** INTO_BATH of the next load into the same bath (this load's log cannot run past it); null if none yet. */
+  nextLoadIntoBathMs: number | null;
 }
 
 /** Agitator readings from this long before INTO_BATH to this long after it decide the agitation of the quench. */
@@ -67,6 +69,19 @@ export async function loadPredictionInputs(db: Db, inputs: RecomputeInputs, unce
       ).map((s) => ({ tMs: s.t.getTime(), value: s.value }))
     : [];
   const row = await db.prediction.findFirst({ where: { batchId: inputs.batch.id }, orderBy: { version: 'desc' } });
+  // A load whose OUT_OF_BATH is missing must not take the next load's bath log as its own.
+  let nextLoadIntoBathMs: number | null = null;
+  if (inputs.events.outOfBathMs === undefined) {
+    const into = await db.loadEvent.findUnique({ where: { batchId_kind: { batchId: inputs.batch.id, kind: 'INTO_BATH' } }, select: { equipmentId: true } });
+    if (into) {
+      const next = await db.loadEvent.findFirst({
+        where: { kind: 'INTO_BATH', equipmentId: into.equipmentId, at: { gt: new Date(intoBathMs) }, batchId: { not: inputs.batch.id } },
+        orderBy: { at: 'asc' },
+        select: { at: true },
+      });
+      nextLoadIntoBathMs = next ? next.at.getTime() : null;
+    }
+  }
   return {
     batch: { sectionShape: batch.sectionShape, sectionSizeMm: batch.sectionSizeMm, scheduledHoldMin: batch.scheduledHoldMin },
     heat: { id: batch.heat.id, revision: batch.heat.revision, material: batch.heat.material, chemistryWtPct: numbersOf(batch.heat.chemistryWtPct) },
@@ -74,6 +89,7 @@ export async function loadPredictionInputs(db: Db, inputs: RecomputeInputs, unce
     agitatorRpm,
     latest: row ? latestOf(row) : null,
     uncertainty,
+    nextLoadIntoBathMs,
   };
 }
 

@@ -6,6 +6,7 @@ import { WorkerLogger, errorMessage } from '../logger.js';
 import { WorkerMetrics } from '../ops/worker-metrics.js';
 import { DRAIN_SHARE, settledWithin } from '../shutdown-budget.js';
 import { WORKER_CONFIG } from '../worker-config.js';
+import type { PredictionWrite } from './prediction-store.js';
 import { BatchNotFoundError, RecomputeService } from './recompute.service.js';
 import { InvalidSpecError } from './steps.js';
 
@@ -31,7 +32,7 @@ export class RecomputeProcessor extends WorkerHost implements OnApplicationBoots
     this.worker.on('error', (error) => this.logger.event('warn', { msg: 'recompute worker: Redis problem', error: errorMessage(error) }));
   }
 
-  async process(job: Job<unknown>): Promise<{ findings: number; changes: number; staleCleared: boolean }> {
+  async process(job: Job<unknown>): Promise<{ findings: number; changes: number; staleCleared: boolean; prediction: PredictionWrite | null }> {
     const endTimer = this.metrics.jobDurationSeconds.startTimer({ queue: RECOMPUTE_QUEUE });
     const parsed = RecomputeJob.safeParse(job.data);
     if (!parsed.success) {
@@ -43,7 +44,7 @@ export class RecomputeProcessor extends WorkerHost implements OnApplicationBoots
       const out = await this.recompute.recompute(batchId);
       endTimer({ outcome: 'ok' });
       this.logger.event('debug', { msg: 'batch recomputed', batchId, reason, findings: out.findings, changes: out.changes.length, staleCleared: out.staleCleared });
-      return { findings: out.findings, changes: out.changes.length, staleCleared: out.staleCleared };
+      return { findings: out.findings, changes: out.changes.length, staleCleared: out.staleCleared, prediction: out.prediction };
     } catch (error) {
       if (error instanceof BatchNotFoundError || error instanceof InvalidSpecError) {
         endTimer({ outcome: 'invalid' });

@@ -107,6 +107,7 @@ export const predictionStep: RecomputeStep = {
           agitatorRpm: p.agitatorRpm,
           lineHeatTransfer: p.lineHeatTransfer,
           uncertainty: p.uncertainty,
+          nextLoadIntoBathMs: p.nextLoadIntoBathMs,
         },
         p.latest?.state ?? null,
       );

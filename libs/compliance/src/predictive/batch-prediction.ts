@@ -67,6 +67,8 @@ export interface BatchPredictionInput extends SetupRecords {
   scheduledHoldMin: number | null;
   /** Per-reading correction of bath thermocouples (pyrometry), if any. */
   correctBathReading?: ((channelId: string, tMs: number, valueC: number) => number) | null;
+  /** INTO_BATH of the next load into the same bath while this one has no OUT_OF_BATH: its log ends there. */
+  nextLoadIntoBathMs?: number | null;
 }
 
 export type BatchPredictionOutcome =
@@ -93,9 +95,14 @@ export function predictBatch(input: BatchPredictionInput, previous: PredictionSt
   if (intoBathMs === undefined) return { kind: 'not-ready', reason: 'the load is not in the bath yet (no INTO_BATH)' };
   const built = buildBatchSetup(input);
   const setup = built.setup;
+  // A load without OUT_OF_BATH: its log ends at the next load's INTO_BATH into the same bath, and never runs past
+  // the advisor's horizon (12 h: it has left the bath by then, whatever the records say).
+  const cutByNextLoad = input.events.outOfBathMs === undefined && input.nextLoadIntoBathMs != null && input.nextLoadIntoBathMs > intoBathMs;
+  const openEndMs = input.events.outOfBathMs === undefined ? Math.min(cutByNextLoad ? (input.nextLoadIntoBathMs as number) : Infinity, intoBathMs + MAX_ADVISOR_HORIZON_S * 1000) : undefined;
   const series = mergeBathChannels(input.channels as readonly TemperatureChannelSeries[], {
     intoBathMs,
     outOfBathMs: input.events.outOfBathMs,
+    ...(openEndMs !== undefined ? { hardEndMs: openEndMs } : {}),
     maxGapS: input.window.maxChannelGapS,
     maxDiffC: input.window.twinTolerance.maxDiffC,
     plausible: input.window.plausible,
@@ -170,6 +177,9 @@ export function predictBatch(input: BatchPredictionInput, previous: PredictionSt
     if (phase === 'DONE') {
       warnings.push(`bath: the bath log ends ${Math.round(targetS - loggedUntilS)} s before OUT_OF_BATH; the rest of the hold is taken at ${holdBathTempC.toFixed(1)} °C`);
     }
+  }
+  if (cutByNextLoad) {
+    warnings.push(`bath: no OUT_OF_BATH, but the next load entered this bath at ${new Date(input.nextLoadIntoBathMs as number).toISOString()}: this load's log ends there`);
   }
   if (series.disagreementS > 0) {
     warnings.push(`bath: the bath thermocouples disagreed by more than ${input.window.twinTolerance.maxDiffC} °C for ${series.disagreementS} s; their mean was used`);
@@ -300,6 +310,7 @@ export function predictBatch(input: BatchPredictionInput, previous: PredictionSt
     judgeDigest,
     nominalKey,
     events: input.events,
+    nextLoadIntoBathMs: cutByNextLoad ? input.nextLoadIntoBathMs : null,
     scheduledHoldMin: input.scheduledHoldMin,
     bath: points,
     warnings: built.warnings,

@@ -20,8 +20,10 @@ export const BATH_GRID_S = 10;
 
 export interface BathSeriesOptions {
   intoBathMs: number;
-  /** OUT_OF_BATH when known: the series ends there. */
+  /** OUT_OF_BATH when known: the series ends there (readings up to the allowed gap after it still interpolate). */
   outOfBathMs?: number;
+  /** No reading at or after this time belongs to the load (e.g. the next load's INTO_BATH). */
+  hardEndMs?: number;
   maxGapS: number;
   maxDiffC: number;
   plausible: { minTempC: number; maxTempC: number };
@@ -60,7 +62,8 @@ interface Prepared {
 
 export function mergeBathChannels(channels: readonly TemperatureChannelSeries[], opts: BathSeriesOptions): BathSeries {
   const gridS = opts.gridS ?? BATH_GRID_S;
-  const endMs = opts.outOfBathMs;
+  const hardEnd = opts.hardEndMs;
+  const endMs = opts.outOfBathMs ?? (hardEnd !== undefined ? hardEnd - 1 : undefined);
   const prepared: Prepared[] = [];
   const uses: BathChannelUse[] = [];
   for (const c of channels) {
@@ -68,6 +71,7 @@ export function mergeBathChannels(channels: readonly TemperatureChannelSeries[],
     const rows = dedupeSorted(c.samples)
       .filter((s) => s.valueC >= opts.plausible.minTempC && s.valueC <= opts.plausible.maxTempC)
       .filter((s) => endMs === undefined || s.tMs <= endMs + opts.maxGapS * 1000)
+      .filter((s) => hardEnd === undefined || s.tMs < hardEnd)
       .map((s) => ({ tS: (s.tMs - opts.intoBathMs) / 1000, valueC: opts.correct ? opts.correct(c.channelId, s.tMs, s.valueC) : s.valueC }));
     const p: Prepared = { channelId: c.channelId, code: c.code, t: Float64Array.from(rows, (r) => r.tS), v: Float64Array.from(rows, (r) => r.valueC) };
     prepared.push(p);
