@@ -1,7 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import { z } from 'zod';
 import { ApiError, issuesFromZod, toErrorBody } from './errors.js';
-import { MAX_INPUT_DEPTH, unsafeInputIssues, unsafeTextIssues } from './input-safety.js';
+import { inputSafetyMiddleware, MAX_INPUT_DEPTH, unsafeInputIssues, unsafeTextIssues } from './input-safety.js';
 import { parseBody, parseQuery } from './validation.js';
 
 describe('unsafeInputIssues', () => {
@@ -71,5 +71,34 @@ describe('error replies stay short', () => {
   it('an unknown empty field name shows as ""', () => {
     const result = z.strictObject({ a: z.number() }).safeParse({ a: 1, '': 2 });
     expect(issuesFromZod(result.error!)).toEqual([{ path: '""', message: 'unknown field' }]);
+  });
+});
+
+describe('inputSafetyMiddleware', () => {
+  const run = (req: object): unknown => {
+    let passed: unknown = 'not called';
+    inputSafetyMiddleware(req as never, {} as never, (error?: unknown) => (passed = error));
+    return passed;
+  };
+
+  it('answers 415 naming the content type when a body came that no parser read', () => {
+    const error = run({ headers: { 'content-length': '7', 'content-type': 'application/octet-stream' }, body: undefined }) as ApiError;
+    expect(error).toBeInstanceOf(ApiError);
+    expect(error.getStatus()).toBe(415);
+    expect(error.issues).toEqual([{ path: 'headers.content-type', message: 'application/octet-stream is not read by this API' }]);
+    expect((run({ headers: { 'transfer-encoding': 'chunked' }, body: undefined }) as ApiError).getStatus()).toBe(415);
+  });
+
+  it('lets requests without a body, and parsed bodies without problems, through', () => {
+    expect(run({ headers: {}, body: undefined })).toBeUndefined();
+    expect(run({ headers: { 'content-length': '0' }, body: undefined })).toBeUndefined();
+    expect(run({ headers: { 'content-length': '9' }, body: { a: 'b' } })).toBeUndefined();
+    expect(run({ headers: { 'content-length': '9' }, body: 'a,b\n1,2\n' })).toBeUndefined();
+  });
+
+  it('answers 400 for a parsed body with unsafe input', () => {
+    const error = run({ headers: { 'content-length': '9' }, body: { a: 'x\u0000' } }) as ApiError;
+    expect(error.getStatus()).toBe(400);
+    expect(error.message).toBe('Invalid request body: a: contains a NUL character (U+0000), which cannot be stored');
   });
 });

@@ -1,5 +1,5 @@
 import type { IncomingMessage, ServerResponse } from 'node:http';
-import { badRequest, MAX_LISTED_ISSUES, summarizeIssues, type ErrorIssue } from './errors.js';
+import { ApiError, badRequest, MAX_LISTED_ISSUES, summarizeIssues, type ErrorIssue } from './errors.js';
 
 /**
  * Input no endpoint can take, refused with a 400 naming the place before any handler, interceptor or
@@ -90,12 +90,29 @@ export function unsafeTextIssues(text: string): ErrorIssue[] {
   return issues;
 }
 
+/** The request carries a body (RFC 9112 §6.3: a Transfer-Encoding, or a Content-Length above 0). */
+function hasBody(req: IncomingMessage): boolean {
+  if (req.headers['transfer-encoding'] !== undefined) return true;
+  const length = req.headers['content-length'];
+  return length !== undefined && Number(length) > 0;
+}
+
 /**
  * Express middleware, after the body parsers: refuses a request whose parsed body holds input that
- * unsafeInputIssues / unsafeTextIssues report, with the API's 400 (through the global error filter).
+ * unsafeInputIssues / unsafeTextIssues report, with the API's 400 (through the global error filter),
+ * and a body that no parser read (a media type other than JSON or CSV/plain text) with 415: the
+ * fuzz suite found an acknowledge sent as application/octet-stream acknowledged without its reason.
  */
 export function inputSafetyMiddleware(req: IncomingMessage, _res: ServerResponse, next: (error?: unknown) => void): void {
   const body = (req as IncomingMessage & { body?: unknown }).body;
+  if (body === undefined && hasBody(req)) {
+    const mediaType = (req.headers['content-type'] ?? '').split(';')[0]!.trim() || 'no content type';
+    return next(
+      new ApiError(415, `Unsupported media type ${mediaType}: send application/json (or text/csv where a file is expected)`, [
+        { path: 'headers.content-type', message: `${mediaType} is not read by this API` },
+      ]),
+    );
+  }
   const issues = typeof body === 'string' ? unsafeTextIssues(body) : body !== null && typeof body === 'object' ? unsafeInputIssues(body) : [];
   if (issues.length === 0) return next();
   next(badRequest(summarizeIssues('request body', issues), issues.slice(0, MAX_LISTED_ISSUES)));
