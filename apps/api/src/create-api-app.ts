@@ -28,6 +28,7 @@ import { JsonLogger } from './http/logger.js';
 import { setupOpenApi } from './http/openapi.js';
 import { requestContextMiddleware } from './http/request-context.js';
 import { inputSafetyMiddleware } from './http/input-safety.js';
+import { loginThrottleMiddleware, rateLimitSettingsFrom, requestRateLimitMiddleware } from './http/rate-limit.js';
 import { requestLogMiddleware } from './http/request-log.js';
 import { corsOptions, securityHeadersMiddleware } from './http/security.js';
 
@@ -68,9 +69,13 @@ export async function buildApiApp(config: ApiConfig, options: Pick<ApiAppOptions
   app.use(requestContextMiddleware);
   app.use(securityHeadersMiddleware);
   app.use(requestLogMiddleware(logger));
+  // Rate limits before the body is read (a flood is refused cheaply); sign-in attempts after it (they need the e-mail).
+  const limits = rateLimitSettingsFrom(config);
+  app.use(requestRateLimitMiddleware(limits));
   app.useBodyParser('json', { limit: BODY_LIMIT_BYTES, type: ['application/json', 'application/*+json'], strict: true });
   app.useBodyParser('text', { limit: BODY_LIMIT_BYTES, type: ['text/csv', 'text/plain'] });
   app.use(inputSafetyMiddleware);
+  app.use(loginThrottleMiddleware(limits));
 
   const cors = corsOptions(config.CORS_ORIGINS);
   if (cors) app.enableCors(cors);
