@@ -119,3 +119,23 @@ export type BandVerdict = 'inside' | 'above' | 'below';
 export function judgeAgainstBand(measured: number, band: Band): BandVerdict {
   return measured > band.p95 ? 'above' : measured < band.p05 ? 'below' : 'inside';
 }
+
+/** In-force calibrations of one product by quantity (what the worker's loader returns). */
+export type ProductCalibrations = Partial<Record<CalibratedQuantity, CalibrationState>>;
+
+/**
+ * Raw and calibrated bands of every calibrated quantity a prediction result carries, and the engine-hook form
+ * (libs/metallurgy Calibration.bands) of the same calibration. For a prediction step that wants to show or
+ * judge calibrated bands: keep the raw bands in the result and put these beside them.
+ */
+export function calibratedPredictionBands(result: unknown, calibrations: ProductCalibrations, options: { minResults?: number } = {}) {
+  const out: Partial<Record<CalibratedQuantity, { raw: Band; calibrated: Band; applied: boolean; engine: { bias: number; sd: number } | null }>> = {};
+  for (const q of CALIBRATED_QUANTITIES) {
+    const raw = rawPredictedBand(result, q);
+    if (!raw) continue;
+    const state = calibrations[q] ?? null;
+    const c = calibrateBand(raw.band, state, { ...options, quantity: q });
+    out[q] = { raw: raw.band, calibrated: c.band, applied: c.applied, engine: engineBandCalibration(raw.band, state, options) };
+  }
+  return out;
+}

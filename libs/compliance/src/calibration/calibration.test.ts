@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest';
 import { createSeededRandom } from '../drift/random.js';
-import { bandSd, calibrateBand, engineBandCalibration, rawPredictedBand, Z95 } from './bands.js';
+import { bandSd, calibrateBand, calibratedPredictionBands, engineBandCalibration, rawPredictedBand, Z95 } from './bands.js';
 import { lnGamma, normalQuantile, regularizedIncompleteBeta, studentTCdf, studentTQuantile } from './distributions.js';
 import { convertHardness, labObservations, meanHardnessIn } from './lab.js';
 import { startCalibration, summarizeCalibration, updateCalibration } from './running.js';
@@ -157,5 +157,19 @@ describe('judgeSequence: prequential judging', () => {
     const skip = judgeSequence([{ key: 'x', measured: 1, raw: null }], { quantity: 'hardnessHV' });
     expect(skip.judgements[0]!.comparison).toBeNull();
     expect(skip.final).toBeNull();
+  });
+});
+
+describe('calibratedPredictionBands', () => {
+  it('gives raw, calibrated and engine-hook forms for every calibrated quantity the result carries', () => {
+    let s = startCalibration(20);
+    for (const r of [-10, -12, -9, -11]) s = updateCalibration(s, r);
+    const result = { bands: { hardnessHV: { p05: 360, p50: 400, p95: 440 } } };
+    const out = calibratedPredictionBands(result, { hardnessHV: s });
+    expect(Object.keys(out)).toEqual(['hardnessHV']);
+    expect(out.hardnessHV!.applied).toBe(true);
+    expect(out.hardnessHV!.calibrated.p50).toBeCloseTo(400 + summarizeCalibration(s).bias, 9);
+    expect(out.hardnessHV!.engine!.bias).toBeCloseTo(summarizeCalibration(s).bias, 9);
+    expect(calibratedPredictionBands(result, {}).hardnessHV!.applied).toBe(false);
   });
 });
