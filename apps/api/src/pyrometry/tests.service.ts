@@ -17,7 +17,7 @@ import { ApiError, badRequest, conflict, notFound, unprocessable, type ErrorIssu
 import { InjectPrisma } from '../prisma.provider.js';
 import { LiveEventsPublisher } from '../stream/live-events.publisher.js';
 import type { AccuracyTestInput, UniformitySurveyInput } from './pyrometry.schemas.js';
-import { canonicalJson, certificateAt, findInstrument, findSensor, isUuid, json, publishChanges, testKitProblems, type Tx } from './lookups.js';
+import { canonicalJson, certificateAt, type CertificateUsed, findInstrument, findSensor, isUuid, json, publishChanges, testKitProblems, type Tx } from './lookups.js';
 import { summarizeSuspect, type Outcome, type SuspectSummary } from './records.service.js';
 
 const TEST_SENSOR_USES: ReadonlySet<string> = new Set(['sat-test', 'tus-test', 'primary-standard', 'secondary-standard']);
@@ -241,11 +241,10 @@ export class PyrometryTestsService {
     }
 
     const at = input.testedAt;
-    const [systemCert, testSensorCert, testInstrumentCert] = await Promise.all([
-      certificateAt(tx, { sensorId: sensor.id }, at),
-      certificateAt(tx, { sensorId: testSensor.id }, at),
-      testInstrument ? certificateAt(tx, { instrumentId: testInstrument.id }, at) : Promise.resolve(null),
-    ]);
+    // Sequential: one transaction, one connection.
+    const systemCert = await certificateAt(tx, { sensorId: sensor.id }, at);
+    const testSensorCert = await certificateAt(tx, { sensorId: testSensor.id }, at);
+    const testInstrumentCert = testInstrument ? await certificateAt(tx, { instrumentId: testInstrument.id }, at) : null;
     // The system's instrument (controller / recorder of the channel) adds its own production correction,
     // as the worker does when rules read the channel ([S13]: offsets used in production are included).
     const channelInstrument = sensor.channelId
@@ -373,7 +372,8 @@ export class PyrometryTestsService {
     }
     if (issues.length > 0) throw unprocessable(`Survey refused: ${issues[0]!.path}: ${issues[0]!.message}`, issues);
     // The certificates in force when the survey began.
-    const certs = await Promise.all(sensors.map((s) => certificateAt(tx, { sensorId: s!.id }, startedAt)));
+    const certs: Array<CertificateUsed | null> = [];
+    for (const s of sensors) certs.push(await certificateAt(tx, { sensorId: s!.id }, startedAt));
     const instrumentCert = testInstrument ? await certificateAt(tx, { instrumentId: testInstrument.id }, startedAt) : null;
     const unit: LimitUnit = state.record.limitUnit === 'F' ? 'F' : 'C';
     const judgeInput = {

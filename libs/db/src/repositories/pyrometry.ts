@@ -449,10 +449,9 @@ export class PyrometryRepository {
     // Records are validated on write; a set that no longer resolves (e.g. a revision withdrawn from the
     // built-in list) is a programming or data error worth failing loudly on.
     if (!resolved.ok) throw new Error(`pyrometry record of equipment ${equipmentId} does not resolve: ${resolved.errors.map((e) => `${e.path}: ${e.message}`).join('; ')}`);
-    const [sensors, instruments] = await Promise.all([
-      db.sensor.findMany({ where: { equipmentId }, orderBy: { serial: 'asc' } }),
-      db.instrument.findMany({ where: { equipmentId }, orderBy: { serial: 'asc' } }),
-    ]);
+    // One query at a time: `db` is often an interactive transaction, which has a single connection.
+    const sensors = await db.sensor.findMany({ where: { equipmentId }, orderBy: { serial: 'asc' } });
+    const instruments = await db.instrument.findMany({ where: { equipmentId }, orderBy: { serial: 'asc' } });
     const history = await this.history(equipmentId, sensors, instruments, db);
     const { equipment } = record;
     return {
@@ -471,15 +470,13 @@ export class PyrometryRepository {
   async history(equipmentId: string, sensors: readonly Sensor[], instruments: readonly Instrument[], db: Db = this.prisma): Promise<PyrometryHistory> {
     const sensorIds = sensors.map((s) => s.id);
     const instrumentIds = instruments.map((i) => i.id);
-    const [sats, surveys, calibrations, uses] = await Promise.all([
-      db.accuracyTest.findMany({ where: { equipmentId, verdict: { in: ['pass', 'fail'] } }, select: { id: true, sensorId: true, testedAt: true, passed: true } }),
-      db.uniformitySurvey.findMany({ where: { equipmentId, verdict: { in: ['pass', 'fail'] } }, select: { id: true, endedAt: true, passed: true } }),
-      db.calibration.findMany({
-        where: { OR: [{ sensorId: { in: sensorIds } }, { instrumentId: { in: instrumentIds } }] },
-        select: { id: true, sensorId: true, instrumentId: true, calibratedAt: true, passed: true, certificateRef: true },
-      }),
-      db.sensorUse.findMany({ where: { sensorId: { in: sensorIds } } }),
-    ]);
+    const sats = await db.accuracyTest.findMany({ where: { equipmentId, verdict: { in: ['pass', 'fail'] } }, select: { id: true, sensorId: true, testedAt: true, passed: true } });
+    const surveys = await db.uniformitySurvey.findMany({ where: { equipmentId, verdict: { in: ['pass', 'fail'] } }, select: { id: true, endedAt: true, passed: true } });
+    const calibrations = await db.calibration.findMany({
+      where: { OR: [{ sensorId: { in: sensorIds } }, { instrumentId: { in: instrumentIds } }] },
+      select: { id: true, sensorId: true, instrumentId: true, calibratedAt: true, passed: true, certificateRef: true },
+    });
+    const uses = await db.sensorUse.findMany({ where: { sensorId: { in: sensorIds } } });
     return {
       tests: [
         ...sats.map((t) => ({ kind: 'sat' as const, equipmentId, sensorId: t.sensorId, at: t.testedAt, passed: t.passed, testId: t.id })),
@@ -665,11 +662,9 @@ export class PyrometryRepository {
   async forRecompute(inputs: RecomputeInputs, now: Date, tx: Prisma.TransactionClient): Promise<PyrometryRecomputeResult> {
     const batchId = inputs.batch.id;
     const channelIds = inputs.channels.map((c) => c.channelId);
-    const [sensors, instruments, events] = await Promise.all([
-      tx.sensor.findMany({ where: { channelId: { in: channelIds } }, include: { calibrations: true } }),
-      tx.instrument.findMany({ where: { channelId: { in: channelIds } }, include: { calibrations: true } }),
-      tx.loadEvent.findMany({ where: { batchId }, include: { equipment: { select: { id: true, code: true } } } }),
-    ]);
+    const sensors = await tx.sensor.findMany({ where: { channelId: { in: channelIds } }, include: { calibrations: true } });
+    const instruments = await tx.instrument.findMany({ where: { channelId: { in: channelIds } }, include: { calibrations: true } });
+    const events = await tx.loadEvent.findMany({ where: { batchId }, include: { equipment: { select: { id: true, code: true } } } });
     const { channels, corrections } = correctChannels(inputs.channels, sensors, instruments);
 
     // Where and when the batch ran.
@@ -769,10 +764,8 @@ export class PyrometryRepository {
         items,
       });
     }
-    const [kitSensors, kitInstruments] = await Promise.all([
-      db.sensor.findMany({ where: { equipmentId: null }, orderBy: { serial: 'asc' } }),
-      db.instrument.findMany({ where: { equipmentId: null }, orderBy: { serial: 'asc' } }),
-    ]);
+    const kitSensors = await db.sensor.findMany({ where: { equipmentId: null }, orderBy: { serial: 'asc' } });
+    const kitInstruments = await db.instrument.findMany({ where: { equipmentId: null }, orderBy: { serial: 'asc' } });
     if ((kitSensors.length > 0 || kitInstruments.length > 0) && references.size > 0) {
       const history = await this.kitHistory(kitSensors, kitInstruments, db);
       const merged = new Map<string, DueItem & { referenceIds: string[] }>();
