@@ -77,9 +77,10 @@ export async function startStack(label: string): Promise<Stack> {
 
 /**
  * Waits until the worker has nothing queued or running (so a timing is not taken while it recomputes a
- * day of samples on the same two cores).
+ * day of samples on the same two cores). Returns false when it is still busy after timeoutMs (the caller
+ * says so next to its figures rather than failing: timings are printed, not asserted).
  */
-export async function waitForWorkerIdle(config: AppConfig, timeoutMs = 60_000): Promise<void> {
+export async function waitForWorkerIdle(config: AppConfig, timeoutMs = 120_000): Promise<boolean> {
   const connection = new Redis(config.REDIS_URL, { maxRetriesPerRequest: null });
   const queue = new Queue(RECOMPUTE_QUEUE, { connection, prefix: config.QUEUE_PREFIX });
   try {
@@ -88,9 +89,10 @@ export async function waitForWorkerIdle(config: AppConfig, timeoutMs = 60_000): 
     while (quietPolls < 3) {
       const counts = await queue.getJobCounts('active', 'waiting', 'delayed', 'prioritized');
       quietPolls = Object.values(counts).every((n) => n === 0) ? quietPolls + 1 : 0;
-      if (Date.now() - started > timeoutMs) throw new Error(`worker still busy after ${timeoutMs} ms: ${JSON.stringify(counts)}`);
+      if (Date.now() - started > timeoutMs) return false;
       await new Promise((r) => setTimeout(r, 300));
     }
+    return true;
   } finally {
     await queue.close();
     connection.disconnect();

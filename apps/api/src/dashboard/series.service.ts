@@ -110,11 +110,13 @@ export class SeriesService {
     const count = rows.reduce((sum, r) => sum + r.n, 0);
     if (count <= maxPoints) {
       if (count === 0) return { count, decimated: false, bucketMs: null, points: [] };
-      const raw = await this.prisma.$queryRaw<Array<{ t: number; value: number }>>`
-        SELECT date_part('epoch', "t") * 1000 AS "t", "value"
-        FROM "Sample" WHERE "channelId" = ${channelId}::uuid AND "t" >= ${from} AND "t" <= ${to}
-        ORDER BY "t"`;
-      return { count, decimated: false, bucketMs: null, points: raw.map((r) => [Math.round(r.t), r.value]) };
+      // Two arrays in one row: far cheaper through the driver than one row object per sample.
+      const [raw] = await this.prisma.$queryRaw<[{ ts: number[] | null; vs: number[] | null }]>`
+        SELECT array_agg(date_part('epoch', "t") * 1000 ORDER BY "t") AS "ts", array_agg("value" ORDER BY "t") AS "vs"
+        FROM "Sample" WHERE "channelId" = ${channelId}::uuid AND "t" >= ${from} AND "t" <= ${to}`;
+      const ts = raw?.ts ?? [];
+      const vs = raw?.vs ?? [];
+      return { count, decimated: false, bucketMs: null, points: ts.map((t, i) => [Math.round(t), vs[i]!]) };
     }
     const points: Array<[number, number]> = [];
     for (const r of rows) {
