@@ -139,6 +139,14 @@ function isPrismaKnownError(error: unknown): error is PrismaLikeError {
   );
 }
 
+/** The PostgreSQL SQLSTATE behind a Prisma error (driver adapter or raw query), when it says. */
+function sqlStateOf(error: PrismaLikeError): string | undefined {
+  const meta = error.meta ?? {};
+  const adapter = meta['driverAdapterError'] as { cause?: { originalCode?: unknown; code?: unknown } } | undefined;
+  const code = adapter?.cause?.originalCode ?? adapter?.cause?.code ?? meta['code'];
+  return typeof code === 'string' && /^[0-9A-Z]{5}$/.test(code) ? code : undefined;
+}
+
 /** Turns anything thrown into the status and body the client gets; `unexpected` marks a 500. */
 export function toErrorBody(exception: unknown): { body: ErrorBody; unexpected: boolean } {
   const make = (status: number, message: string, issues: ErrorIssue[] = []): ErrorBody => ({
@@ -194,6 +202,17 @@ export function toErrorBody(exception: unknown): { body: ErrorBody; unexpected: 
         return { body: make(409, 'The request refers to a record that does not exist or is still referenced'), unexpected: false };
       case 'P2023':
         return { body: make(400, 'A value has the wrong format for its column (e.g. an id that is not a UUID)'), unexpected: false };
+    }
+    // PostgreSQL "data exception" (SQLSTATE class 22: a date before year 1, a number too large for
+    // its column, text it cannot hold): the request carried a value validation let through. The
+    // fuzz suite found such values answered 500; they are the caller's to fix, so 400.
+    if (sqlStateOf(exception)?.startsWith('22') || exception.code === 'P2020') {
+      return {
+        body: make(400, 'A value in the request cannot be stored: out of range or not valid for its column (e.g. a date before year 1 or a number too large)', [
+          { path: 'body', message: 'a value is out of range for the database' },
+        ]),
+        unexpected: false,
+      };
     }
   }
   return { body: make(500, 'Internal server error; quote the request id when reporting it'), unexpected: true };

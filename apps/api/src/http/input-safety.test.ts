@@ -102,3 +102,26 @@ describe('inputSafetyMiddleware', () => {
     expect(error.message).toBe('Invalid request body: a: contains a NUL character (U+0000), which cannot be stored');
   });
 });
+
+describe('database data exceptions that escape validation', () => {
+  function prismaError(code: string, sqlState: string): Error {
+    const error = new Error('Invalid `prisma.x.findMany()` invocation: Database error') as Error & { code: string; meta: unknown };
+    error.name = 'PrismaClientKnownRequestError';
+    error.code = code;
+    error.meta = { modelName: 'Batch', driverAdapterError: { name: 'DriverAdapterError', cause: { originalCode: sqlState, kind: 'postgres' } } };
+    return error;
+  }
+
+  it('answer 400 (a value the caller sent), never naming tables or columns', () => {
+    for (const [code, state] of [['P2039', '22008'], ['P2039', '22021'], ['P2020', '22003']] as const) {
+      const { body, unexpected } = toErrorBody(prismaError(code, state));
+      expect(unexpected, state).toBe(false);
+      expect(body.statusCode).toBe(400);
+      expect(body.message).not.toMatch(/Batch|prisma/i);
+    }
+  });
+
+  it('other database errors stay 500', () => {
+    expect(toErrorBody(prismaError('P2039', '57P01')).body.statusCode).toBe(500);
+  });
+});
