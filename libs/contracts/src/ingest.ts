@@ -387,7 +387,16 @@ function csvOf<T extends z.ZodType<unknown, string>>(item: T) {
     .pipe(z.array(item).min(1));
 }
 
-const QueryTime = z.iso.datetime({ offset: true, error: 'expected an ISO 8601 date-time with offset' });
+/**
+ * A time filter. Any instant from 1970 to 9999 makes a sensible filter; outside, PostgreSQL refuses
+ * some (year 0000 does not exist there: the fuzz suite found from=0000-01-01T00:00:00Z answered 500).
+ */
+const QueryTime = z.iso
+  .datetime({ offset: true, error: 'expected an ISO 8601 date-time with offset' })
+  .refine((t) => {
+    const ms = Date.parse(t);
+    return ms >= 0 && ms <= 253_402_300_799_999;
+  }, 'expected a date-time from 1970-01-01 to 9999-12-31');
 const Limit = z.coerce.number().int('must be a whole number').min(1).max(500).default(50);
 
 export const DeviationQuery = z
