@@ -8,7 +8,10 @@
  * prediction, the lab results against the criteria, and the deviations with their dispositions and signer –
  * the same bytes on every call. Readings and numbers are invented.
  */
-import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { afterAll, beforeAll, describe, expect, it, vi } from 'vitest';
+
+// Real API + worker + queues on a shared, loaded machine: give hooks and tests room.
+vi.setConfig({ testTimeout: 180_000, hookTimeout: 180_000 });
 import { Queue } from 'bullmq';
 import { DRIFT_QUEUE, OUTCOME_QUEUE, RECOMPUTE_QUEUE, type RecomputeJob } from '@ausline/contracts';
 import { startTestApi } from '../apps/api/test/support/test-api.js';
@@ -34,7 +37,7 @@ afterAll(async () => {
   await deleteRedisKeys(config.QUEUE_PREFIX);
 });
 
-async function until<T>(what: string, probe: () => Promise<T | null | undefined | false>, timeoutMs = 60_000): Promise<T> {
+async function until<T>(what: string, probe: () => Promise<T | null | undefined | false>, timeoutMs = 120_000): Promise<T> {
   const deadline = Date.now() + timeoutMs;
   for (;;) {
     const value = await probe();

@@ -11,7 +11,9 @@
  *     chart over the same values, and about as many as 4,000/ARL₀ (the job does not restart a chart after a
  *     signal, so a chart that hovers at its limit makes one merged episode; see libs/compliance lots/).
  */
-import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { afterAll, beforeAll, describe, expect, it, vi } from 'vitest';
+
+vi.setConfig({ testTimeout: 180_000, hookTimeout: 180_000 });
 import { Queue } from 'bullmq';
 import { DRIFT_QUEUE, type DriftJob } from '@ausline/contracts';
 import {
@@ -160,10 +162,10 @@ describe('a long in-control series through the worker drift job', () => {
     });
     expect(await prisma.deviationAudit.count()).toBe(audits);
     expect(await prisma.deviation.count({ where: { rule: 'drift' } })).toBe(deviations.length);
-  });
+  }, 180_000);
 });
 
-async function until<T>(what: string, probe: () => Promise<T | null | undefined | false>, timeoutMs = 60_000): Promise<T> {
+async function until<T>(what: string, probe: () => Promise<T | null | undefined | false>, timeoutMs = 120_000): Promise<T> {
   const deadline = Date.now() + timeoutMs;
   for (;;) {
     const value = await probe();

@@ -6,7 +6,10 @@
  * one reading every 30 s) and a final prediction row in PC1's contract shape; the worker's outcome jobs
  * (enqueued by its sweep, as after recomputes) chart the values, its drift jobs judge them. Invented numbers.
  */
-import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { afterAll, beforeAll, describe, expect, it, vi } from 'vitest';
+
+// Real API + worker + queues on a shared, loaded machine: give hooks and tests room.
+vi.setConfig({ testTimeout: 180_000, hookTimeout: 180_000 });
 import { Queue } from 'bullmq';
 import { DRIFT_QUEUE, OUTCOME_QUEUE } from '@ausline/contracts';
 import { createSeededRandom } from '@ausline/compliance';
@@ -35,7 +38,7 @@ afterAll(async () => {
   await deleteRedisKeys(config.QUEUE_PREFIX);
 });
 
-async function until<T>(what: string, probe: () => Promise<T | null | undefined | false>, timeoutMs = 60_000): Promise<T> {
+async function until<T>(what: string, probe: () => Promise<T | null | undefined | false>, timeoutMs = 120_000): Promise<T> {
   const deadline = Date.now() + timeoutMs;
   for (;;) {
     const value = await probe();

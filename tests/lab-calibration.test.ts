@@ -7,7 +7,10 @@
  * moved. Predictions are written straight to the database in PC1's contract shape (tests/fixtures/drift-lots.ts);
  * all numbers are invented.
  */
-import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { afterAll, beforeAll, describe, expect, it, vi } from 'vitest';
+
+// Real API + worker + queues on a shared, loaded machine: give hooks and tests room.
+vi.setConfig({ testTimeout: 180_000, hookTimeout: 180_000 });
 import { startTestApi } from '../apps/api/test/support/test-api.js';
 import { createApiKeyFor, createUserWithSession } from '../apps/api/test/support/principals.js';
 import { startWorker, type RunningWorker } from '../apps/worker/src/start-worker.js';
@@ -29,7 +32,7 @@ afterAll(async () => {
   await deleteRedisKeys(config.QUEUE_PREFIX);
 });
 
-async function until<T>(what: string, probe: () => Promise<T | null | undefined | false>, timeoutMs = 20_000): Promise<T> {
+async function until<T>(what: string, probe: () => Promise<T | null | undefined | false>, timeoutMs = 90_000): Promise<T> {
   const deadline = Date.now() + timeoutMs;
   for (;;) {
     const value = await probe();
