@@ -151,7 +151,7 @@ describe('dashboard in Chromium', { timeout: 60_000 }, () => {
     await page.waitForSelector('.line-card .load');
     await page.route('**/v1/stream', (route) => route.abort());
     stack.api.app.get(StreamController).beforeApplicationShutdown(); // the server drops every open stream
-    await eventually(async () => (await page.locator('.stream-pill').textContent())?.includes('Live updates lost'), 10_000, 'the header to say the stream is lost');
+    await eventually(async () => (await page.locator('.stream-pill').textContent())?.includes('Reconnecting (updates lost'), 10_000, 'the header to say the stream is lost');
     expect(await page.locator('.board-status').textContent()).toContain('Live updates are not running');
     await screenshot(page, '04-board-stream-down', false);
     await page.unroute('**/v1/stream');

@@ -69,13 +69,13 @@ function streamText(state: StreamState): { text: string; cls: string; title: str
       return { text: 'Connecting…', cls: 'connecting', title: 'Opening the live update stream' };
     case 'reconnecting':
       return {
-        text: `Live updates lost ${formatDuration(now - (state.lostAt ?? now))} ago, reconnecting`,
+        text: `Reconnecting (updates lost ${formatDuration(now - (state.lostAt ?? now))})`,
         cls: 'reconnecting',
         title: 'Figures on screen may be out of date until the stream is back',
       };
     case 'down':
       return {
-        text: `Live updates DOWN since ${formatClock(state.lostAt, ctx.plantZone)}: figures may be stale`,
+        text: `Updates DOWN since ${formatClock(state.lostAt, ctx.plantZone)}: data may be stale`,
         cls: 'down',
         title: 'The live update stream is down. Reload the page or check the network; the screen does not update by itself meanwhile.',
       };
