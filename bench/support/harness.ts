@@ -20,7 +20,7 @@ import { Redis } from 'ioredis';
 import pg from 'pg';
 import { createPrismaClient, type PrismaClient } from '@ausline/db';
 import { runMigrations } from '../../libs/db/src/migrate/run-migrations.js';
-import { newApiKey } from '../../apps/api/src/auth/secrets.js';
+import { hashPassword, newApiKey } from '../../apps/api/src/auth/secrets.js';
 
 export const REPO_ROOT = fileURLToPath(new URL('../../', import.meta.url));
 const MIGRATIONS_DIR = fileURLToPath(new URL('../../prisma/migrations', import.meta.url));
@@ -229,6 +229,7 @@ export const sleep = (ms: number) => new Promise<void>((resolve) => setTimeout(r
 export interface BenchController {
   equipmentId: string;
   equipmentCode: string;
+  kind: 'FURNACE' | 'BATH';
   lineIndex: number;
   channelCodes: string[];
   channelIds: string[];
@@ -253,7 +254,14 @@ export const BENCH_PROCESS_WINDOW = {
 
 export async function createBenchPlant(
   prisma: PrismaClient,
-  options: { lines: number; controllersPerLine: number; channelsPerController: number; chargedAtMs: number },
+  options: {
+    lines: number;
+    controllersPerLine: number;
+    channelsPerController: number;
+    chargedAtMs: number;
+    /** Also record OUT_OF_FURNACE (12 s before) and INTO_BATH at this time: the load is in the bath. */
+    inBathSinceMs?: number;
+  },
 ): Promise<BenchPlant> {
   const tag = randomBytes(3).toString('hex');
   const heat = await prisma.heat.create({
@@ -286,12 +294,20 @@ export async function createBenchPlant(
       await prisma.apiKey.create({
         data: { prefix, secretHash, label: `bench ${code}`, scope: 'EQUIPMENT', equipment: { create: [{ equipmentId: equipment.id }] } },
       });
-      plant.controllers.push({ equipmentId: equipment.id, equipmentCode: code, lineIndex: l, channelCodes, channelIds, authorization: `ApiKey ${key}` });
+      plant.controllers.push({ equipmentId: equipment.id, equipmentCode: code, kind, lineIndex: l, channelCodes, channelIds, authorization: `ApiKey ${key}` });
     }
     const batch = await prisma.batch.create({
       data: { code: `BLOAD${l}-${tag}`, lineId: line.id, heatId: heat.id, specVersionId: version.id, partCount: 40, weightKg: 400, sectionShape: 'CYLINDER', sectionSizeMm: 25 },
     });
     await prisma.loadEvent.create({ data: { batchId: batch.id, kind: 'CHARGED', at: new Date(options.chargedAtMs), equipmentId: furnaceId } });
+    if (options.inBathSinceMs !== undefined) {
+      await prisma.loadEvent.createMany({
+        data: [
+          { batchId: batch.id, kind: 'OUT_OF_FURNACE', at: new Date(options.inBathSinceMs - 12_000), equipmentId: furnaceId },
+          { batchId: batch.id, kind: 'INTO_BATH', at: new Date(options.inBathSinceMs), equipmentId: bathId },
+        ],
+      });
+    }
     plant.lines.push({ id: line.id, batchId: batch.id, furnaceId, bathId });
   }
   return plant;
@@ -372,4 +388,55 @@ export async function deleteRedisPrefix(prefix: string, redisUrl = BENCH_REDIS_U
     redis.disconnect();
   }
   return deleted;
+}
+
+// ---------------------------------------------------------------------------------------------------
+// A signed-in user and the live event stream
+// ---------------------------------------------------------------------------------------------------
+
+/** A METALLURGIST user created in the database, signed in through POST /v1/auth/login; returns the session token. */
+export async function signedInUser(prisma: PrismaClient, apiUrl: string): Promise<string> {
+  const email = `bench-${randomBytes(3).toString('hex')}@plant.test`;
+  const password = `bench-${randomBytes(12).toString('hex')}`;
+  await prisma.user.create({ data: { email, displayName: 'Bench metallurgist', roles: ['METALLURGIST'], passwordHash: await hashPassword(password) } });
+  const res = await fetch(`${apiUrl}/v1/auth/login`, { method: 'POST', headers: { 'content-type': 'application/json' }, body: JSON.stringify({ email, password }) });
+  if (!res.ok) throw new Error(`login failed: ${res.status} ${await res.text()}`);
+  return ((await res.json()) as { token: string }).token;
+}
+
+export interface StreamEvent {
+  receivedAt: number;
+  data: { type: string; batchId?: string | null; [k: string]: unknown };
+}
+
+/** Reads GET /v1/stream (server-sent events) and calls onEvent for each JSON event; close() ends it. */
+export async function openStream(apiUrl: string, token: string, query: string, onEvent: (e: StreamEvent) => void): Promise<{ close(): void }> {
+  const controller = new AbortController();
+  const res = await fetch(`${apiUrl}/v1/stream?${query}`, { headers: { accept: 'text/event-stream', authorization: `Bearer ${token}` }, signal: controller.signal });
+  if (!res.ok || !res.body) throw new Error(`stream refused: ${res.status}`);
+  const reader = res.body.pipeThrough(new TextDecoderStream()).getReader();
+  void (async () => {
+    let buffer = '';
+    try {
+      for (;;) {
+        const { value, done } = await reader.read();
+        if (done) return;
+        buffer += value;
+        let end: number;
+        while ((end = buffer.indexOf('\n\n')) !== -1) {
+          const block = buffer.slice(0, end);
+          buffer = buffer.slice(end + 2);
+          const data = block
+            .split('\n')
+            .filter((l) => l.startsWith('data: '))
+            .map((l) => l.slice(6))
+            .join('\n');
+          if (data) onEvent({ receivedAt: performance.now(), data: JSON.parse(data) as StreamEvent['data'] });
+        }
+      }
+    } catch {
+      // aborted by close()
+    }
+  })();
+  return { close: () => controller.abort() };
 }
