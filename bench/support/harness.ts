@@ -151,7 +151,8 @@ export interface ChildService {
 
 const CLOCK_TICKS_PER_S = 100; // Linux USER_HZ
 
-function cpuSecondsOf(pid: number): number {
+/** User + system CPU seconds of any process on this machine (Linux /proc; NaN when it is gone). */
+export function cpuSecondsOf(pid: number): number {
   try {
     const stat = readFileSync(`/proc/${pid}/stat`, 'utf8');
     const fields = stat.slice(stat.lastIndexOf(')') + 2).split(' ');
