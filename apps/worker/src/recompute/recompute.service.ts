@@ -88,7 +88,7 @@ export class RecomputeService {
         };
         // --- end pyrometry -----------------------------------------------------------------------------
         try {
-          for (const step of this.steps) step.run(ctx);
+          for (const step of this.steps) await step.run(ctx);
         } catch (error) {
           if (!(error instanceof InvalidSpecError)) throw error;
           // Retrying cannot help and the reconciler must not re-enqueue it forever: clear the stale flag
@@ -140,7 +140,7 @@ export class RecomputeService {
         ctx.predictionInputs = await loadPredictionInputs(tx, inputs, this.options.prediction);
         const latest = ctx.predictionInputs?.latest ?? null;
         if (latest?.readAtMs !== undefined && latest.readAtMs !== null && latest.readAtMs > readAt.getTime()) return { findings: 0, changes: [], write: null };
-        for (const step of this.predictionSteps) step.run(ctx);
+        for (const step of this.predictionSteps) await step.run(ctx);
         if (ctx.evaluatedRules.length === 0) return { findings: 0, changes: [], write: null };
         const write = ctx.prediction?.kind === 'predicted' ? await storePrediction(tx, batchId, ctx.prediction, latest, readAt) : null;
         const changes = await this.deviations.syncFindings(

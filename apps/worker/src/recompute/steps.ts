@@ -3,11 +3,12 @@ import {
   PROCESS_WINDOW_RULES,
   PredictionInputError,
   evaluateProcessWindow,
-  predictBatch,
+  predictBatchSteps,
   type BatchPredictionOutcome,
   type ProcessWindowMeasures,
 } from '@ausline/compliance';
 import type { DeviationFindingInput, RecomputeInputs } from '@ausline/db';
+import { setImmediate as nextTurn } from 'node:timers/promises';
 import type { PredictionStepInputs } from './prediction-inputs.js';
 
 /**
@@ -33,7 +34,8 @@ export const PREDICTION_UNAVAILABLE_RULE = 'prediction-unavailable';
 
 export interface RecomputeStep {
   name: string;
-  run(ctx: RecomputeContext): void;
+  /** Synchronous, or a promise only to give the event loop turns during a long computation (no I/O). */
+  run(ctx: RecomputeContext): void | Promise<void>;
 }
 
 /** A spec version whose stored JSON does not parse: the batch cannot be evaluated until it is fixed. */
@@ -76,7 +78,7 @@ export const processWindowStep: RecomputeStep = {
  */
 export const predictionStep: RecomputeStep = {
   name: 'prediction',
-  run(ctx) {
+  async run(ctx) {
     const p = ctx.predictionInputs;
     if (!p) return;
     const window = ProcessWindow.safeParse(ctx.inputs.spec.processWindow);
@@ -91,7 +93,7 @@ export const predictionStep: RecomputeStep = {
     const batch = ctx.inputs.batch;
     let outcome: BatchPredictionOutcome;
     try {
-      outcome = predictBatch(
+      const steps = predictBatchSteps(
         {
           batchId: batch.id,
           heatId: p.heat.id,
@@ -111,6 +113,16 @@ export const predictionStep: RecomputeStep = {
         },
         p.latest?.state ?? null,
       );
+      // One checkpoint per turn of the event loop: a worker sharing its process (tests, a small plant's single
+      // container) keeps answering while a long batch is predicted from scratch.
+      for (;;) {
+        const next = steps.next();
+        if (next.done) {
+          outcome = next.value;
+          break;
+        }
+        await nextTurn();
+      }
     } catch (error) {
       if (!(error instanceof PredictionInputError)) throw error;
       ctx.evaluatedRules.push(...PREDICTION_RULES, PREDICTION_UNAVAILABLE_RULE);

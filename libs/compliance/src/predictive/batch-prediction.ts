@@ -12,9 +12,11 @@ import {
   checkpointOf,
   COARSE_STEP_S,
   evaluateState,
+  drain,
   projectionPoints,
-  searchEarliest,
+  searchEarliestSteps,
   walk,
+  walkSteps,
   type Checkpoint,
   type EvaluationContext,
 } from './evaluate.js';
@@ -91,6 +93,14 @@ export type BatchPredictionOutcome =
     };
 
 export function predictBatch(input: BatchPredictionInput, previous: PredictionState | null): BatchPredictionOutcome {
+  return drain(predictBatchSteps(input, previous));
+}
+
+/**
+ * `predictBatch` in steps: yields after every checkpoint evaluated, so a process that also serves requests can give
+ * its event loop a turn (a long batch from scratch with 1,000 members takes seconds).
+ */
+export function* predictBatchSteps(input: BatchPredictionInput, previous: PredictionState | null): Generator<void, BatchPredictionOutcome, void> {
   const intoBathMs = input.events.intoBathMs;
   if (intoBathMs === undefined) return { kind: 'not-ready', reason: 'the load is not in the bath yet (no INTO_BATH)' };
   const built = buildBatchSetup(input);
@@ -144,11 +154,11 @@ export function predictBatch(input: BatchPredictionInput, previous: PredictionSt
   const collect = (into: Checkpoint[]) => (s: BathState, tS: number) => {
     into.push(checkpointOf(s, ctx, tS));
   };
-  engine = walk(engine, points.slice(startAt, Math.max(startAt, settledCount)), CHECKPOINT_S, collect(checkpoints));
+  engine = yield* walkSteps(engine, points.slice(startAt, Math.max(startAt, settledCount)), CHECKPOINT_S, collect(checkpoints));
   const settledState = engine;
   const settledCheckpoints = checkpoints.slice();
   const provisional: Checkpoint[] = [];
-  const current = walk(settledState, points.slice(Math.max(startAt, settledCount)), CHECKPOINT_S, collect(provisional));
+  const current = yield* walkSteps(settledState, points.slice(Math.max(startAt, settledCount)), CHECKPOINT_S, collect(provisional));
   const loggedCheckpoints = [...settledCheckpoints, ...provisional];
   const loggedUntilS = points[points.length - 1][0];
 
@@ -168,7 +178,7 @@ export function predictBatch(input: BatchPredictionInput, previous: PredictionSt
   const projectedStates: BathState[] = [];
   if (targetS > loggedUntilS + PROJECTION_TOLERANCE_S) {
     const basis = phase === 'DONE' ? 'log-gap' : scheduledBasis;
-    judged = walk(current, projectionPoints(loggedUntilS, targetS, holdBathTempC), COARSE_STEP_S, (s, tS) => {
+    judged = yield* walkSteps(current, projectionPoints(loggedUntilS, targetS, holdBathTempC), COARSE_STEP_S, (s, tS) => {
       projectedCheckpoints.push(checkpointOf(s, ctx, tS));
       projectedStates.push(s);
     });
@@ -204,7 +214,7 @@ export function predictBatch(input: BatchPredictionInput, previous: PredictionSt
     const okS = projectedCheckpoints[projectedOk].tS;
     earliestSafeEndS = okS;
     limiting = projectedOk === 0 ? (loggedCheckpoints.at(-1)?.failing ?? []) : projectedCheckpoints[projectedOk - 1].failing;
-    walk(fromState, projectionPoints(fromS, okS, holdBathTempC), CHECKPOINT_S, (s, tS) => {
+    yield* walkSteps(fromState, projectionPoints(fromS, okS, holdBathTempC), CHECKPOINT_S, (s, tS) => {
       if (tS >= okS) return true;
       const c = checkpointOf(s, ctx, tS);
       if (c.ok) {
@@ -215,7 +225,7 @@ export function predictBatch(input: BatchPredictionInput, previous: PredictionSt
       return false;
     });
   } else {
-    const searched = searchEarliest(judged, ctx, judgedUntilS, holdBathTempC, advisorHorizonS, allCheckpoints.at(-1)?.failing ?? []);
+    const searched = yield* searchEarliestSteps(judged, ctx, judgedUntilS, holdBathTempC, advisorHorizonS, allCheckpoints.at(-1)?.failing ?? []);
     earliestSafeEndS = searched.earliestS;
     limiting = searched.limiting;
     reason = searched.reason;
@@ -223,7 +233,7 @@ export function predictBatch(input: BatchPredictionInput, previous: PredictionSt
 
   const nominalKey = digestOf({ setupDigest, judgeDigest, nominalBathC, advisorHorizonS });
   let nominal = previous && previous.nominal && previous.nominal.key === nominalKey ? previous.nominal : null;
-  if (!nominal) nominal = nominalAdvice(ctx, nominalBathC, advisorHorizonS, nominalKey);
+  if (!nominal) nominal = yield* nominalAdvice(ctx, nominalBathC, advisorHorizonS, nominalKey);
 
   const evaluation = evaluateState(judged, ctx, {
     holdEndS: judgedUntilS,
@@ -384,10 +394,10 @@ function recentMean(points: ReadonlyArray<[number, number]>, windowS: number): n
 }
 
 /** The hold advisor for an isothermal bath at the spec's nominal temperature, from the bath entry. */
-function nominalAdvice(ctx: EvaluationContext, nominalC: number, horizonS: number, key: string): NonNullable<PredictionState['nominal']> {
+function* nominalAdvice(ctx: EvaluationContext, nominalC: number, horizonS: number, key: string): Generator<void, NonNullable<PredictionState['nominal']>, void> {
   const start = createBathState(ctx.setup);
   const first = walk(start, [[0, nominalC]], CHECKPOINT_S, () => undefined);
-  const r = searchEarliest(first, ctx, 0, nominalC, horizonS, []);
+  const r = yield* searchEarliestSteps(first, ctx, 0, nominalC, horizonS, []);
   return { key, earliestSafeEndS: r.earliestS, limiting: r.limiting };
 }
 

@@ -173,7 +173,7 @@ function checkpointDetail(state: BathState, ctx: EvaluationContext, tS: number):
 /**
  * Advances `state` over `points` ([tS, °C], increasing), evaluating a checkpoint at every multiple of `everyS`
  * (> 0) among the points. Points at or before the state's last sample are ignored by the engine.
- * `stop(checkpoint)` ends the walk early (returns the state at that checkpoint).
+ * `onCheckpoint` returning true ends the walk early (returns the state at that checkpoint).
  */
 export function walk(
   state: BathState,
@@ -181,6 +181,16 @@ export function walk(
   everyS: number,
   onCheckpoint: (state: BathState, tS: number) => boolean | void,
 ): BathState {
+  return drain(walkSteps(state, points, everyS, onCheckpoint));
+}
+
+/** `walk` in steps: yields after each checkpoint (a caller may give its event loop a turn there). */
+export function* walkSteps(
+  state: BathState,
+  points: ReadonlyArray<readonly [number, number]>,
+  everyS: number,
+  onCheckpoint: (state: BathState, tS: number) => boolean | void,
+): Generator<void, BathState, void> {
   let s = state;
   let from = 0;
   for (let i = 0; i < points.length; i++) {
@@ -189,10 +199,19 @@ export function walk(
       s = advanceBath(s, points.slice(from, i + 1) as Array<[number, number]>);
       from = i + 1;
       if (onCheckpoint(s, t) === true) return s;
+      yield;
     }
   }
   if (from < points.length) s = advanceBath(s, points.slice(from) as Array<[number, number]>);
   return s;
+}
+
+/** Runs a step generator to its end. */
+export function drain<T>(steps: Generator<void, T, void>): T {
+  for (;;) {
+    const next = steps.next();
+    if (next.done) return next.value;
+  }
 }
 
 export function isMultiple(t: number, step: number): boolean {
@@ -236,6 +255,18 @@ export function searchEarliest(
   horizonS: number,
   lastFailing: string[],
 ): SearchResult {
+  return drain(searchEarliestSteps(state, ctx, fromS, tempC, horizonS, lastFailing));
+}
+
+/** `searchEarliest` in steps (yields after each evaluation). */
+export function* searchEarliestSteps(
+  state: BathState,
+  ctx: EvaluationContext,
+  fromS: number,
+  tempC: number,
+  horizonS: number,
+  lastFailing: string[],
+): Generator<void, SearchResult, void> {
   let prev = state;
   let prevS = fromS;
   let failing = lastFailing;
@@ -247,7 +278,7 @@ export function searchEarliest(
       // Refine inside (prevS, t] on the checkpoint grid.
       let found: number = t;
       let refineFailing = failing;
-      walk(prev, projectionPoints(prevS, t, tempC), CHECKPOINT_S, (s, tS) => {
+      yield* walkSteps(prev, projectionPoints(prevS, t, tempC), CHECKPOINT_S, (s, tS) => {
         if (tS >= t) return true;
         const c = checkpointOf(s, ctx, tS);
         if (c.ok) {
@@ -260,6 +291,7 @@ export function searchEarliest(
       return { earliestS: found, limiting: refineFailing, reason: null };
     }
     failing = cp.failing;
+    yield;
     if (saturated(next) || bandsKey === prevKey) {
       return {
         earliestS: null,
