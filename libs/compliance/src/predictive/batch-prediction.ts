@@ -168,7 +168,8 @@ export function* predictBatchSteps(input: BatchPredictionInput, previous: Predic
   const scheduledBasis: 'batch' | 'spec-min-hold' = input.scheduledHoldMin !== null ? 'batch' : 'spec-min-hold';
   const scheduledEndS = (input.scheduledHoldMin ?? input.window.bath.minHoldMin) * 60;
   const actualEndS = phase === 'DONE' ? ((input.events.outOfBathMs as number) - intoBathMs) / 1000 : null;
-  const targetS = actualEndS ?? scheduledEndS;
+  // In the bath past its scheduled end, the load will come out no earlier than now: judge the hold logged so far.
+  const targetS = actualEndS ?? Math.max(scheduledEndS, loggedUntilS);
   let judged = current;
   let judgedUntilS = loggedUntilS;
   let projection: PredictionBasis['projection'] = null;
