@@ -24,6 +24,7 @@
  *
  * All readings are invented. Sized to run in about two to four minutes.
  */
+import os from 'node:os';
 import { fileURLToPath } from 'node:url';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import pg from 'pg';
@@ -250,6 +251,7 @@ describe('reliability under faults: worker kills, Redis and Postgres restarts, r
       // ---- run: the replay, the controllers and the faults, all bounded --------------------------------
       startChildWorker();
       const controllers = loads.flatMap((x) => [x.furnace, x.bath]);
+      const machineAtStart = `machine at the start: ${os.availableParallelism()} CPUs, ${Math.round(os.totalmem() / 2 ** 30)} GiB, load average ${os.loadavg().map((x) => x.toFixed(2)).join(' / ')}`;
       const loadStart = Date.now();
       const drainDeadline = loadStart + REPLAY_WALL_MS + 150_000;
       const running = controllers.map((c) => c.run(drainDeadline));
@@ -335,11 +337,16 @@ describe('reliability under faults: worker kills, Redis and Postgres restarts, r
         500,
       );
       log(`settled after ${((Date.now() - loadStart) / 1000).toFixed(1)} s`);
+      const machine = (label: string) =>
+        `${label}: ${os.availableParallelism()} CPUs, ${Math.round(os.totalmem() / 2 ** 30)} GiB, load average ${os.loadavg().map((x) => x.toFixed(2)).join(' / ')}`;
       const summary = [
+        machineAtStart,
+        machine('machine at the end'),
         buildNote,
         ...faultLog,
         ...controllers.map((c, i) => `controller ${i}: ${JSON.stringify(c.stats)}`),
         `stalled events: ${stalledEvents}`,
+        `samples sent: ${sent.size}; requests planned: ${planned.length}`,
       ].join('\n');
       console.log(`reliability run:\n${summary}`);
 
