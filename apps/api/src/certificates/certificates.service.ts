@@ -71,7 +71,7 @@ export class CertificatesService {
     return this.assemble('lot', lot, batches);
   }
 
-  loadBatches(where: { id: string } | { heatId: string; specVersion: { specId: string } }) {
+  private loadBatches(where: { id: string } | { heatId: string; specVersion: { specId: string } }) {
     return this.prisma.batch.findMany({
       where,
       include: {
