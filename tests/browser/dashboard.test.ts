@@ -18,7 +18,7 @@ import { readPrediction, VERDICT_TEXT, verdictOf } from '../../apps/dashboard/sr
 import { formatClock, formatIsoInZone } from '../../apps/dashboard/src/lib/time.js';
 import { bathLog, createLoad, furnaceLog, PASSWORD, postSamples, setUpPlant, wiggle } from './plant.js';
 import type { BrowserElement, BrowserWindow } from './browser-globals.js';
-import { eventually, openBrowser, PLANT_TIME_ZONE, screenshot, signInUi, signOutUi, startStack, unexpectedProblems } from './support.js';
+import { eventually, openBrowser, paintedPixels, PLANT_TIME_ZONE, screenshot, signInUi, signOutUi, startStack, unexpectedProblems } from './support.js';
 
 const stack = await startStack('browser-dashboard');
 const plant = await setUpPlant(stack);
@@ -269,7 +269,7 @@ describe('dashboard in Chromium', { timeout: 60_000 }, () => {
     const served = (await stack.http.get(`/v1/heats/${plant.heatId}/diagram?specId=${plant.specId}`, plant.quality)).status === 200;
     await eventually(async () => (await diagram.getAttribute('data-source')) === (served ? 'api-diagram' : 'predictions'), 10_000, 'the diagram source');
     if (!served) expect(await heat.locator('.chart-note').textContent()).toContain('not available from the API yet');
-    expect(await paintedPixels(page, '[data-chart="diagram"] canvas')).toBeGreaterThan(2000);
+    expect(await paintedPixels(page, '[data-chart="diagram"] canvas', 2001)).toBeGreaterThan(2000);
     await screenshot(page, '08-heat-diagram');
   });
 
@@ -395,13 +395,3 @@ async function addLabResults(): Promise<void> {
   await stack.http.must(`/v1/batches/${done}/lab-results`, { kind: 'RETAINED_AUSTENITE', method: 'XRD', testStandard: 'ASTM E975', volumePct: 31.2, externalRef: 'LAB-26-1178' }, plant.lab);
 }
 
-/** Pixels of a canvas that are not transparent: the chart drew something. */
-async function paintedPixels(p: typeof page, selector: string): Promise<number> {
-  return p.locator(selector).evaluate((canvas) => {
-    const c = canvas as unknown as BrowserElement;
-    const data = c.getContext('2d')!.getImageData(0, 0, c.width, c.height).data;
-    let n = 0;
-    for (let i = 3; i < data.length; i += 4) if (data[i]! > 0) n++;
-    return n;
-  });
-}

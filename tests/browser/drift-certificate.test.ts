@@ -9,9 +9,8 @@
 import { mkdirSync, readFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
-import type { BrowserElement } from './browser-globals.js';
 import { bathLog, createLoad, furnaceLog, PASSWORD, postSamples, setUpPlant, springCriteria, springWindow, wiggle } from './plant.js';
-import { eventually, openBrowser, REPO, screenshot, signInUi, startStack, unexpectedProblems } from './support.js';
+import { eventually, openBrowser, paintedPixels, REPO, screenshot, signInUi, startStack, unexpectedProblems } from './support.js';
 
 const stack = await startStack('browser-drift');
 const plant = await setUpPlant(stack);
@@ -72,13 +71,7 @@ describe('drift view and certificate record in Chromium', { timeout: 120_000 }, 
     expect(await drift.locator('.card p').first().textContent()).toContain(`Monitoring: ${LOADS} lots charted`);
     expect(await drift.locator('.signals li').count()).toBeGreaterThan(0);
     for (const name of ['individuals', 'ewma', 'cusum']) {
-      const painted = await page.locator(`[data-chart="drift-${name}"] canvas`).evaluate((canvas) => {
-        const c = canvas as unknown as BrowserElement;
-        const data = c.getContext('2d')!.getImageData(0, 0, c.width, c.height).data;
-        let n = 0;
-        for (let i = 3; i < data.length; i += 4) if (data[i]! > 0) n++;
-        return n;
-      });
+      const painted = await paintedPixels(page, `[data-chart="drift-${name}"] canvas`, 2001);
       expect(painted, `${name} chart painted`).toBeGreaterThan(2000);
     }
     await screenshot(page, '16-drift');

@@ -19,7 +19,7 @@ import { startWorker, type RunningWorker } from '../../apps/worker/src/start-wor
 import { createTestDatabase, type TestDatabase } from '../support/database.js';
 import { testAppEnv } from '../support/env.js';
 import { testQueuePrefix } from '../support/redis.js';
-import type { BrowserWindow } from './browser-globals.js';
+import type { BrowserElement, BrowserWindow } from './browser-globals.js';
 
 export const CHROMIUM = '/usr/bin/chromium';
 export const REPO = fileURLToPath(new URL('../..', import.meta.url)).replace(/\/$/, '');
@@ -217,6 +217,27 @@ export async function eventually<T>(check: () => Promise<T | undefined | null | 
       last = error;
     }
     if (Date.now() - started > timeoutMs) throw new Error(`timed out after ${timeoutMs} ms waiting for ${what}${last ? `: ${String(last)}` : ''}`);
+    await new Promise((r) => setTimeout(r, 100));
+  }
+}
+
+/**
+ * Pixels of a canvas that are not transparent, once the chart has drawn something. Polls: a chart.js
+ * canvas has width 0 until it is laid out, and reading it then would throw, not fail the check. Gives
+ * the last count after `timeoutMs` so the caller's assertion states what was seen.
+ */
+export async function paintedPixels(page: Page, selector: string, atLeast = 1, timeoutMs = 10_000): Promise<number> {
+  const started = Date.now();
+  for (;;) {
+    const count = await page.locator(selector).evaluate((canvas) => {
+      const c = canvas as unknown as BrowserElement;
+      if (c.width === 0 || c.height === 0) return 0;
+      const data = c.getContext('2d')!.getImageData(0, 0, c.width, c.height).data;
+      let n = 0;
+      for (let i = 3; i < data.length; i += 4) if (data[i]! > 0) n++;
+      return n;
+    });
+    if (count >= atLeast || Date.now() - started > timeoutMs) return count;
     await new Promise((r) => setTimeout(r, 100));
   }
 }

@@ -180,8 +180,9 @@ export const driftView: ViewFactory = (ctx, route) => {
     if (c.specLimits?.lower != null) spec['specLo'] = specLine(v(c.specLimits.lower), `spec min ${fmtNum(v(c.specLimits.lower), 2)}`);
     if (c.specLimits?.upper != null) spec['specHi'] = specLine(v(c.specLimits.upper), `spec max ${fmtNum(v(c.specLimits.upper), 2)}`);
 
+    const build: Array<() => Chart> = [];
     const individuals = chartBox('individuals', 'Individuals with frozen limits');
-    charts.push(new Chart(individuals.canvas, {
+    build.push(() => new Chart(individuals.canvas, {
       type: 'line',
       data: {
         datasets: [
@@ -199,7 +200,7 @@ export const driftView: ViewFactory = (ctx, route) => {
     if (c.points.some((p) => p.ewma)) {
       const ewma = chartBox('ewma', 'EWMA');
       const pts = c.points.filter((p) => p.ewma);
-      charts.push(new Chart(ewma.canvas, {
+      build.push(() => new Chart(ewma.canvas, {
         type: 'line',
         data: {
           datasets: [
@@ -218,7 +219,7 @@ export const driftView: ViewFactory = (ctx, route) => {
       const cusum = chartBox('cusum', 'Tabular CUSUM');
       const pts = c.points.filter((p) => p.cusum);
       const hVal = pts[0]!.cusum!.h;
-      charts.push(new Chart(cusum.canvas, {
+      build.push(() => new Chart(cusum.canvas, {
         type: 'line',
         data: {
           datasets: [
@@ -248,6 +249,9 @@ export const driftView: ViewFactory = (ctx, route) => {
           : null,
       ),
     );
+    // Charts are made only once their canvases are in the page: chart.js sizes a canvas from its
+    // container, and one made on a detached canvas stays blank until a later resize callback.
+    for (const make of build) charts.push(make());
     el.dataset['drawnAt'] = String(Date.now());
   }
 
