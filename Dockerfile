@@ -21,11 +21,12 @@ RUN npm ci --no-audit --no-fund
 
 COPY apps ./apps
 COPY libs ./libs
-# The apps' project references build the libs they use; libs/db also carries the migration command.
-# The dashboard (static files the api serves from apps/dashboard/dist) is built when it is part of the tree.
+# The apps' project references build the libs they use; libs/db also carries the migration command;
+# apps/line-sim is the demo plant (the compose `sim` service). The dashboard is static files the api
+# serves from apps/dashboard/dist (vite is a dev dependency, so build it before the prune).
 RUN npm run prisma:generate \
- && npx tsc -b libs/db apps/api apps/worker \
- && if [ -f apps/dashboard/package.json ]; then npm run build:dashboard; fi \
+ && npx tsc -b libs/db apps/api apps/worker apps/line-sim \
+ && npm run build:dashboard \
  && npm prune --omit=dev --ignore-scripts --no-audit --no-fund
 
 # ---- runtime: compiled code, production dependencies, the SQL migrations ----
@@ -37,6 +38,9 @@ COPY --from=build --chown=node:node /app/node_modules ./node_modules
 COPY --from=build --chown=node:node /app/prisma/migrations ./prisma/migrations
 COPY --from=build --chown=node:node /app/libs ./libs
 COPY --from=build --chown=node:node /app/apps ./apps
+# The demo plant keeps its keys and passwords in /state (a named volume in docker-compose.yml); a new
+# named volume takes this directory's owner, so the unprivileged user can write there.
+RUN mkdir -p /state && chown node:node /state
 USER node
 EXPOSE 3000
 

@@ -7,6 +7,8 @@
  *  - the process-window planted problems (bath creeping out of band, thermocouple drifting from its twin,
  *    short hold) raised exactly their process-window deviations, and no other batch raised any.
  * The metallurgical planted problems are checked in demo-metallurgy.test.ts (issue 4).
+ * Then the README's tour: the demo plant's screens in Chromium, signed in as the demo's own users
+ * (screenshots test-output/screenshots/tour-*.png; the README shows copies from docs/tour/).
  * All plant data are invented (apps/line-sim/src/plant.ts).
  */
 import { beforeAll, describe, expect, it } from 'vitest';
@@ -16,8 +18,12 @@ import type { ScheduledLoad } from '../apps/line-sim/src/schedule.js';
 import type { SimReport } from '../apps/line-sim/src/simulator.js';
 import { runDemoDay } from '../apps/line-sim/test/run-demo-day.js';
 import { startService } from '../apps/line-sim/test/service-harness.js';
+import { buildDashboard, eventually, openBrowser, requireChromium, screenshot, signInUi, unexpectedProblems } from './browser/support.js';
+import { DEMO_USERS } from '../apps/line-sim/src/plant.js';
 
-const service = await startService('demo-day');
+requireChromium();
+// The demo lines keep Europe/London time (apps/line-sim/src/plant.ts): the screens show the plant's clock.
+const service = await startService('demo-day', { DASHBOARD_DIR: buildDashboard(), PLANT_TIME_ZONE: 'Europe/London' });
 const prisma = service.db.prisma;
 const DAY_MS = DEMO_DAY.durationMin * 60_000;
 
@@ -25,10 +31,12 @@ let report: SimReport;
 let startMs = 0;
 let loads: ScheduledLoad[] = [];
 let wallS = 0;
+let passwords = new Map<string, string>();
 
 beforeAll(async () => {
   const run = await runDemoDay(service);
   ({ report, startMs, wallS } = run);
+  passwords = new Map(run.setup.createdUsers.map((u) => [u.email, u.oneTimePassword]));
   loads = run.schedule.lines.flatMap((l) => l.loads);
 }, 2_400_000);
 
@@ -113,5 +121,52 @@ describe('the demo day against the real service', () => {
     const open = await prisma.deviation.count({ where: { status: { not: 'CLEARED' }, rule: { in: [...PROCESS_WINDOW_RULES] } } });
     const planted = loads.reduce((a, l) => a + (l.plan.planted ? PROCESS_WINDOW_EXPECTATIONS[l.plan.planted].length : 0), 0);
     expect(open).toBe(planted);
+  });
+});
+
+describe('the demo in Chromium (the README tour)', { timeout: 120_000 }, () => {
+  const quality = DEMO_USERS.find((u) => u.roles.includes('QUALITY'))!;
+  const metallurgist = DEMO_USERS.find((u) => u.roles.includes('METALLURGIST'))!;
+  const codeOf = (problem: string) => loads.find((l) => l.plan.planted === problem)!.code;
+
+  it('shows the three lines on the live board to the shift metallurgist', async () => {
+    const { page, problems } = await openBrowser({ width: 1440, height: 900 });
+    await signInUi(page, service.url, metallurgist.email, passwords.get(metallurgist.email)!);
+    await page.goto(`${service.url}/#/board`);
+    await page.waitForSelector('.line-card[data-line-id]');
+    await eventually(async () => (await page.locator('.line-card[data-line-id]').count()) === 3, 10_000, 'three line cards');
+    expect(await page.locator('.line-card').allTextContents()).toEqual([expect.stringContaining('HV-L1'), expect.stringContaining('HV-L2'), expect.stringContaining('HV-L3')]);
+    await screenshot(page, 'tour-1-board', false);
+
+    // The load whose bath crept out of its band: the chart shows the band and the excursion.
+    const creep = await prisma.batch.findFirstOrThrow({ where: { code: codeOf('bath-creep') } });
+    await page.goto(`${service.url}/#/batches/${creep.id}`);
+    await page.locator('[data-chart="bath"][data-drawn-at]').waitFor();
+    const listed = await prisma.deviation.count({ where: { batchId: creep.id } });
+    expect(listed).toBeGreaterThan(0);
+    await eventually(async () => (await page.locator('.deviations-card li[data-deviation-id]').count()) === listed, 10_000, 'the load\u2019s deviations listed');
+    await screenshot(page, 'tour-2-load-bath-creep', false);
+    expect(unexpectedProblems(problems)).toEqual([]);
+  });
+
+  it('lists the planted deviations for the quality manager, and opens the low-silicon heat', async () => {
+    const { page, problems } = await openBrowser({ width: 1440, height: 900 });
+    await signInUi(page, service.url, quality.email, passwords.get(quality.email)!);
+    await page.goto(`${service.url}/#/deviations`);
+    const count = page.locator('.result-count');
+    await count.waitFor();
+    // No filter: every deviation the day raised, whatever its status.
+    const all = await prisma.deviation.count();
+    await eventually(async () => Number(await count.getAttribute('data-total')) === all, 10_000, `${all} deviations listed`);
+    expect(all).toBeGreaterThan(0);
+    await screenshot(page, 'tour-3-deviations', false);
+
+    const lowSi = loads.find((l) => l.plan.planted === 'low-silicon')!;
+    await page.goto(`${service.url}/#/heats`);
+    await page.getByRole('link', { name: lowSi.plan.heat }).click();
+    await page.locator('[data-chart="diagram"][data-drawn-at]').waitFor();
+    expect(await page.locator('section.heat tr[data-element="Si"]').textContent()).toContain('0.41');
+    await screenshot(page, 'tour-4-heat-low-silicon', false);
+    expect(unexpectedProblems(problems)).toEqual([]);
   });
 });

@@ -8,6 +8,7 @@ import { fileURLToPath } from 'node:url';
 import { describe, expect, it } from 'vitest';
 import { parse } from 'yaml';
 import { CONFIG_VARIABLES, loadConfig } from '@ausline/contracts';
+import { DEMO_ENVIRONMENT } from '../../apps/line-sim/src/demo-environment.js';
 
 const root = fileURLToPath(new URL('../../', import.meta.url));
 const compose = parse(readFileSync(`${root}docker-compose.yml`, 'utf8')) as {
@@ -27,9 +28,9 @@ interface Service {
   volumes?: string[];
 }
 
-/** Services that run our image: they are configured through loadConfig. */
+/** Services that run our api or worker: they are configured through loadConfig. */
 const APP_SERVICES = Object.entries(compose.services)
-  .filter(([, s]) => s.build !== undefined)
+  .filter(([, s]) => s.build !== undefined && /apps\/(api|worker)\//.test(([] as string[]).concat(s.command ?? []).join(' ')))
   .map(([name]) => name);
 
 function environmentOf(service: Service): Record<string, string> {
@@ -117,6 +118,29 @@ describe('docker-compose.yml', () => {
     expect(dockerfile).toMatch(/tsc -b libs\/db/);
   });
 
+  it('runs the demo plant against the api service, with only variables the demo reads', () => {
+    const sim = compose.services.sim!;
+    expect(sim.build, 'sim runs our image').toBeDefined();
+    expect(APP_SERVICES).not.toContain('sim');
+    const command = ([] as string[]).concat(sim.command ?? []);
+    expect(command.slice(0, 2)).toEqual(['node', 'apps/line-sim/dist/demo.js']);
+    // The image builds it; the api it attaches to is the compose service on the api's port.
+    expect(dockerfile).toMatch(/tsc -b [^\n]*apps\/line-sim/);
+    const apiPort = loadConfig(environmentOf(compose.services.api!)).PORT;
+    expect(command[command.indexOf('--attach') + 1]).toBe(`http://api:${apiPort}`);
+    expect(command[command.indexOf('--public-url') + 1]).toBe(`http://localhost:${apiPort}`);
+    const env = environmentOf(sim);
+    const known = new Set<string>(DEMO_ENVIRONMENT);
+    expect(Object.keys(env).filter((key) => !known.has(key)), 'sim sets variables the demo does not read').toEqual([]);
+    // create-admin writes to the api's database.
+    expect(env.DATABASE_URL).toBe(environmentOf(compose.services.api!).DATABASE_URL);
+    // Its keys and passwords survive a restart: the state directory is a named volume.
+    expect(sim.volumes).toContain(`simstate:${env.AUSLINE_DEMO_STATE_DIR}`);
+    expect(dockerfile).toMatch(new RegExp(`mkdir -p ${env.AUSLINE_DEMO_STATE_DIR} && chown node:node ${env.AUSLINE_DEMO_STATE_DIR}`));
+    const deps = sim.depends_on as Record<string, { condition: string }>;
+    expect(deps.api?.condition).toBe('service_healthy');
+  });
+
   it('declares the named volumes it mounts', () => {
     const declared = Object.keys(compose.volumes ?? {});
     for (const [name, service] of Object.entries(compose.services)) {
@@ -135,6 +159,12 @@ describe('Dockerfile', () => {
     expect(dockerfile).toMatch(/RUN npm ci\b/);
     expect(dockerfile).toMatch(/COPY package\.json package-lock\.json/);
     expect(dockerfile).toMatch(/COPY --from=build .*prisma\/migrations/);
+  });
+
+  it('builds the dashboard the api serves (unconditionally: apps/dashboard is not a workspace)', () => {
+    expect(existsSync(`${root}apps/dashboard/index.html`)).toBe(true);
+    expect(dockerfile).toMatch(/^ && npm run build:dashboard \\$/m);
+    expect(dockerfile.indexOf('npm run build:dashboard')).toBeLessThan(dockerfile.indexOf('npm prune'));
   });
 
   it('copies the manifest of every workspace before npm ci (else npm ci fails in the image)', () => {

@@ -1,4 +1,4 @@
-import { readFileSync } from 'node:fs';
+import { existsSync, readFileSync } from 'node:fs';
 import { describe, expect, it } from 'vitest';
 import { configTableMarkdown } from '../../scripts/config-table.js';
 
@@ -15,5 +15,11 @@ describe('README', () => {
   it('gives the test command that .ci/run calls', () => {
     expect(readme).toContain('npm ci && npm test');
     expect(readFileSync(new URL('../../.ci/run', import.meta.url), 'utf8')).toMatch(/npm test/);
+  });
+
+  it('links only files that exist', () => {
+    const links = [...readme.matchAll(/\]\(([^)#\s]+)\)/g)].map((m) => m[1]!).filter((l) => !/^[a-z]+:/.test(l));
+    expect(links.length).toBeGreaterThan(5);
+    for (const link of links) expect(existsSync(new URL(`../../${link}`, import.meta.url)), link).toBe(true);
   });
 });

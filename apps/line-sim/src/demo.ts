@@ -1,7 +1,7 @@
 /**
  * `npm run demo`: Ausline with an invented plant, on a Postgres and Redis that already run.
  *
- *   npm run demo [-- --reset] [-- --speed 600|max] [-- --hours 24] [-- --no-build] [-- --attach http://api:3000]
+ *   npm run demo [-- --reset] [-- --speed 600|max] [-- --hours 24] [-- --no-build] [-- --attach http://api:3000 [--public-url URL]]
  *
  * 1. creates the database at DATABASE_URL if missing (default postgresql://postgres@127.0.0.1:5432/ausline_demo;
  *    --reset drops it first) and applies the migrations;
@@ -15,7 +15,8 @@
  * Ctrl-C stops the plant (buffered data sent), then the worker and the api.
  *
  * --attach URL skips 1 and 3 (migrations, build, child processes) and drives an api that runs elsewhere,
- * e.g. the compose service; DATABASE_URL is still needed for create-admin.
+ * e.g. the compose service; DATABASE_URL is still needed for create-admin. --public-url is the address
+ * printed for people (inside compose the api is http://api:3000, the browser's is http://localhost:3000).
  * Keys and passwords the demo created are kept in .ausline-demo/ (AUSLINE_DEMO_STATE_DIR), readable by
  * you only, so the next run reuses them and continues the plant from where it stopped.
  */
@@ -26,6 +27,7 @@ import { join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { parseArgs } from 'node:util';
 import pg from 'pg';
+import { DEMO_ENVIRONMENT } from './demo-environment.js';
 import { ApiClient, ApiError } from './http.js';
 import { DEMO_USERS, FIRST_ADMIN, PLANT_NAME } from './plant.js';
 import { formatLogEvent, loadState, parseSpeed, runPlant, saveState, type DemoState } from './run.js';
@@ -36,7 +38,7 @@ import type { Simulator } from './simulator.js';
 /** Repository root: this file is apps/line-sim/src/demo.ts (or dist/demo.js). */
 const ROOT = fileURLToPath(new URL('../../../', import.meta.url));
 
-const DEFAULTS: Record<string, string> = {
+const DEFAULTS: Partial<Record<(typeof DEMO_ENVIRONMENT)[number], string>> = {
   DATABASE_URL: 'postgresql://postgres@127.0.0.1:5432/ausline_demo',
   REDIS_URL: 'redis://127.0.0.1:6379',
   PORT: '3000',
@@ -61,12 +63,13 @@ async function main(): Promise<void> {
       hours: { type: 'string', default: String(DEMO_DAY.durationMin / 60) },
       'no-build': { type: 'boolean', default: false },
       attach: { type: 'string' },
+      'public-url': { type: 'string' },
       help: { type: 'boolean', default: false },
     },
     strict: true,
   }).values;
   if (args.help) {
-    say('usage: npm run demo [-- --reset] [-- --speed 600|max] [-- --hours 24] [-- --no-build] [-- --attach http://host:3000]');
+    say('usage: npm run demo [-- --reset] [-- --speed 600|max] [-- --hours 24] [-- --no-build] [-- --attach http://host:3000 [--public-url http://localhost:3000]]');
     return;
   }
   const speed = parseSpeed(args.speed);
@@ -77,7 +80,7 @@ async function main(): Promise<void> {
   const stateDir = env.AUSLINE_DEMO_STATE_DIR ?? join(ROOT, '.ausline-demo');
   const statePath = join(stateDir, `state-${dbName}.json`);
   const apiUrl = (args.attach ?? `http://127.0.0.1:${env.PORT}`).replace(/\/$/, '');
-  const publicUrl = args.attach ? apiUrl : `http://localhost:${env.PORT}`;
+  const publicUrl = (args['public-url'] ?? (args.attach ? apiUrl : `http://localhost:${env.PORT}`)).replace(/\/$/, '');
 
   const children: ChildProcess[] = [];
   let simulator: Simulator | null = null;
