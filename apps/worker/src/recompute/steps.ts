@@ -63,6 +63,7 @@ export const processWindowStep: RecomputeStep = {
       events: ctx.inputs.events,
       channels: ctx.inputs.channels,
       nowMs: ctx.nowMs,
+      timeZone: ctx.inputs.batch.lineTimeZone,
     });
     ctx.findings.push(...result.findings);
     ctx.evaluatedRules.push(...PROCESS_WINDOW_RULES);

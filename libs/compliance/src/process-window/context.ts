@@ -1,5 +1,5 @@
 import type { ProcessWindow } from '@ausline/contracts';
-import { normalizeSamples } from './series.js';
+import { normalizeSamples, plantClock } from './series.js';
 import type { LoadEventTimes, ProcessWindowInput, TemperatureChannelRole, TemperatureSample } from './types.js';
 
 /** The time a load spent in one step: [startMs, endMs]; open = still there at nowMs. */
@@ -32,6 +32,8 @@ export interface RuleContext {
   transfer: Phase | null;
   bath: Phase | null;
   channels: PreparedChannel[];
+  /** Formats an instant for a message, on the plant's clock (series.ts plantClock). */
+  clock: (ms: number) => string;
 }
 
 export const DEFAULT_INGEST_LATENCY_ALLOWANCE_S = 60;
@@ -62,6 +64,7 @@ export function prepareContext(input: ProcessWindowInput): RuleContext {
     transfer: phase(events.outOfFurnaceMs, events.intoBathMs, nowMs),
     bath: phase(events.intoBathMs, events.outOfBathMs, nowMs),
     channels,
+    clock: plantClock(input.timeZone),
   };
 }
 

@@ -236,6 +236,18 @@ describe('bath-band-excursion', () => {
     expect(r.findings[0].message).toContain('high 385.0 °C');
   });
 
+  it('writes the time in the message on the line\u2019s clock, and keeps ISO UTC in the details', () => {
+    const s = baseChannels();
+    s.tc1 = patch(s.tc1, INTO_BATH + 30 * MIN, INTO_BATH + 32.5 * MIN, () => 385);
+    const utc = only(evaluateProcessWindow(input(s)), 'bath-band-excursion')[0]!;
+    const berlin = only(evaluateProcessWindow(input(s, { timeZone: 'Europe/Berlin' })), 'bath-band-excursion')[0]!;
+    // 08:00:12 UTC on 4 March is 09:00:12 in Berlin (CET, UTC+1, no summer time yet).
+    expect(utc.message).toContain('from 2025-03-04T08:00:12Z');
+    expect(berlin.message).toContain('from 2025-03-04 09:00:12 CET');
+    expect(berlin.details.longestExcursionFrom).toBe('2025-03-04T08:00:12Z');
+    expect(berlin.dedupKey).toBe(utc.dedupKey);
+  });
+
   it('stays quiet for an excursion within the allowance (the immersion rise)', () => {
     const s = baseChannels();
     s.tc1 = patch(s.tc1, INTO_BATH, INTO_BATH + 100_000, () => 383);

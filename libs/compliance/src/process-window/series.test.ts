@@ -1,7 +1,7 @@
 import fc from 'fast-check';
 import { describe, expect, it } from 'vitest';
 import { longestFlatRun } from './rules/signal.js';
-import { badRuns, heldSegments, jointSegments, normalizeSamples, strictGoodRuns } from './series.js';
+import { badRuns, heldSegments, jointSegments, normalizeSamples, plantClock, strictGoodRuns } from './series.js';
 
 const s = (tMs: number, valueC: number) => ({ tMs, valueC });
 
@@ -110,5 +110,18 @@ describe('longestFlatRun', () => {
       ),
       { seed: 20250304, numRuns: 300 },
     );
+  });
+});
+
+describe('plantClock', () => {
+  it('writes an instant on the plant\u2019s clock with its zone abbreviation, summer time included', () => {
+    // Europe/London is GMT in winter and BST (UTC+1) from the last Sunday of March (common practice; IANA tz database).
+    expect(plantClock('Europe/London')(Date.UTC(2026, 11, 1, 23, 30, 5))).toBe('2026-12-01 23:30:05 GMT');
+    expect(plantClock('Europe/London')(Date.UTC(2026, 6, 1, 23, 30, 5))).toBe('2026-07-02 00:30:05 BST');
+    expect(plantClock('UTC')(Date.UTC(2026, 0, 2, 3, 4, 5))).toBe('2026-01-02 03:04:05 UTC');
+  });
+
+  it('falls back to ISO UTC without a zone', () => {
+    expect(plantClock()(Date.UTC(2026, 0, 2, 3, 4, 5))).toBe('2026-01-02T03:04:05Z');
   });
 });

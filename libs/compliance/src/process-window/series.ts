@@ -158,3 +158,19 @@ export const fmtRangeC = (lo: number, hi: number) => `${lo.toFixed(1)}–${hi.to
 export const fmtS = (ms: number) => `${Math.round(ms / 1000)} s`;
 export const fmtMin = (ms: number) => `${(ms / 60_000).toFixed(1)} min`;
 export const fmtTime = (ms: number) => new Date(ms).toISOString().replace(/\.\d{3}Z$/, 'Z');
+
+/**
+ * Times in messages, on the plant's clock: "2026-12-01 13:09:08 CET" in the line's IANA zone (people read
+ * deviations against shift logs and chart recorders kept in local time). Without a zone: ISO UTC. The
+ * findings' details keep ISO UTC for machines. A zone Intl does not know is a caller error.
+ */
+export function plantClock(timeZone?: string): (ms: number) => string {
+  if (!timeZone) return fmtTime;
+  const format = new Intl.DateTimeFormat('en-GB', {
+    timeZone, hourCycle: 'h23', year: 'numeric', month: '2-digit', day: '2-digit', hour: '2-digit', minute: '2-digit', second: '2-digit', timeZoneName: 'short',
+  });
+  return (ms) => {
+    const p = Object.fromEntries(format.formatToParts(new Date(ms)).map((x) => [x.type, x.value]));
+    return `${p['year']}-${p['month']}-${p['day']} ${p['hour']}:${p['minute']}:${p['second']} ${p['timeZoneName']}`;
+  };
+}

@@ -56,6 +56,8 @@ export interface ProcessWindowInput {
    * to now minus this allowance. Default 60 s (common practice: a poll/post cycle of tens of seconds).
    */
   ingestLatencyAllowanceS?: number;
+  /** IANA zone of the line: times in messages are written on its clock; details stay ISO UTC. */
+  timeZone?: string;
 }
 
 export type FindingDetails = Record<string, number | string | boolean | null | readonly unknown[]>;

@@ -15,7 +15,7 @@ export interface RecomputeChannel {
 }
 
 export interface RecomputeInputs {
-  batch: { id: string; code: string; lineId: string; heatId: string; specVersionId: string; productSpecId: string };
+  batch: { id: string; code: string; lineId: string; heatId: string; specVersionId: string; productSpecId: string; lineTimeZone: string };
   /** The spec version's JSON as stored; the caller validates it with the libs/contracts schemas. */
   spec: { processWindow: unknown; acceptanceCriteria: unknown; chemistryLimits: unknown };
   events: { chargedMs?: number; outOfFurnaceMs?: number; intoBathMs?: number; outOfBathMs?: number };
@@ -46,7 +46,7 @@ export class RecomputeInputsRepository {
   async load(batchId: string, options: { leadMs: number }, db: Db = this.prisma): Promise<RecomputeInputs | null> {
     const batch = await db.batch.findUnique({
       where: { id: batchId },
-      include: { specVersion: true, loadEvents: true },
+      include: { specVersion: true, loadEvents: true, line: { select: { timeZone: true } } },
     });
     if (!batch) return null;
 
@@ -78,6 +78,7 @@ export class RecomputeInputsRepository {
         heatId: batch.heatId,
         specVersionId: batch.specVersionId,
         productSpecId: batch.specVersion.specId,
+        lineTimeZone: batch.line.timeZone,
       },
       spec: {
         processWindow: batch.specVersion.processWindow,

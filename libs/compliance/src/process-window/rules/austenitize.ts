@@ -94,9 +94,9 @@ export function evaluateAustenitize(ctx: RuleContext): AustenitizeResult {
     const parts: string[] = [];
     const longestAbove = longest(above);
     const longestBelow = longest(below);
-    if (longestAbove) parts.push(`above ${fmtC(w.maxTempC)} for ${fmtS(longestAbove.durationMs)} from ${fmtTime(longestAbove.fromMs)} (peak ${fmtC(peakC)})`);
+    if (longestAbove) parts.push(`above ${fmtC(w.maxTempC)} for ${fmtS(longestAbove.durationMs)} from ${ctx.clock(longestAbove.fromMs)} (peak ${fmtC(peakC)})`);
     if (longestBelow && lowDuringSoakC !== null) {
-      parts.push(`below ${fmtC(w.minTempC)} for ${fmtS(longestBelow.durationMs)} during the soak from ${fmtTime(longestBelow.fromMs)} (low ${fmtC(lowDuringSoakC)})`);
+      parts.push(`below ${fmtC(w.minTempC)} for ${fmtS(longestBelow.durationMs)} during the soak from ${ctx.clock(longestBelow.fromMs)} (low ${fmtC(lowDuringSoakC)})`);
     }
     const sum = (runs: Run[]) => runs.reduce((a, r) => a + r.durationMs, 0) / 1000;
     findings.push({

@@ -31,7 +31,7 @@ export function evaluateBathBand(ctx: RuleContext): ProcessWindowFinding[] {
       channelId: tc.channelId,
       message:
         `Bath thermocouple ${tc.code} outside ${fmtRangeC(w.minTempC, w.maxTempC)} for ${fmtS(worst.durationMs)} ` +
-        `from ${fmtTime(worst.fromMs)} (allowed ${w.maxExcursionS} s; ${extremes})` +
+        `from ${ctx.clock(worst.fromMs)} (allowed ${w.maxExcursionS} s; ${extremes})` +
         (overLimit.length > 1 ? `; ${overLimit.length} excursions over the limit` : ''),
       details: {
         channelCode: tc.code,
@@ -87,7 +87,7 @@ export function evaluateTwinDisagreement(ctx: RuleContext): ProcessWindowFinding
         channelId: null,
         message:
           `Bath thermocouples ${a.code} and ${b.code} differ by more than ${fmtC(maxDiffC)} for ${fmtS(worst.durationMs)} ` +
-          `from ${fmtTime(worst.fromMs)} (largest difference ${fmtC(largestDiffC)}; tolerated ${minDurationS} s)`,
+          `from ${ctx.clock(worst.fromMs)} (largest difference ${fmtC(largestDiffC)}; tolerated ${minDurationS} s)`,
         details: {
           channelIds: [a.channelId, b.channelId],
           channelCodes: [a.code, b.code],

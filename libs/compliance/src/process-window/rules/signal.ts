@@ -38,7 +38,7 @@ export function evaluateChannelGaps(ctx: RuleContext): ProcessWindowFinding[] {
       dedupKey: dedupKeyFor(ctx.batchId, 'channel-gap', ch.channelId),
       channelId: ch.channelId,
       message:
-        `${roleLabel(ch.role)} ${ch.code} recorded nothing for ${fmtS(worstMs)} from ${fmtTime(worst.fromMs)}` +
+        `${roleLabel(ch.role)} ${ch.code} recorded nothing for ${fmtS(worstMs)} from ${ctx.clock(worst.fromMs)}` +
         `${stillOpen ? ' (still silent)' : ''} (allowed gap ${ctx.window.maxChannelGapS} s)` +
         (gaps.length > 1 ? `; ${gaps.length} gaps, ${fmtS(totalMs)} in all` : ''),
       details: {
@@ -77,7 +77,7 @@ export function evaluateFlatline(ctx: RuleContext): ProcessWindowFinding[] {
       channelId: ch.channelId,
       message:
         `${roleLabel(ch.role)} ${ch.code} flat at ${fmtRangeC(run.lowC, run.highC)} for ${fmtMin(run.durationMs)} ` +
-        `from ${fmtTime(run.fromMs)} (${run.count} readings within ${epsilonC} °C; limit ${minDurationS} s): check the sensor`,
+        `from ${ctx.clock(run.fromMs)} (${run.count} readings within ${epsilonC} °C; limit ${minDurationS} s): check the sensor`,
       details: {
         channelCode: ch.code,
         flatForS: run.durationMs / 1000,
@@ -156,14 +156,14 @@ export function evaluateImplausible(ctx: RuleContext): ProcessWindowFinding[] {
       const first = outOfRange[0];
       parts.push(
         `${outOfRange.length} reading${outOfRange.length > 1 ? 's' : ''} outside the plausible ${fmtRangeC(minTempC, maxTempC)} ` +
-          `(first ${fmtC(first.valueC)} at ${fmtTime(first.tMs)})`,
+          `(first ${fmtC(first.valueC)} at ${ctx.clock(first.tMs)})`,
       );
     }
     const fastest = jumps.length > 0 ? jumps.reduce((a, j) => (j.rateCPerS > a.rateCPerS ? j : a)) : null;
     if (fastest) {
       parts.push(
         `${jumps.length} jump${jumps.length > 1 ? 's' : ''} faster than ${maxRateCPerS} °C/s ` +
-          `(fastest ${fastest.rateCPerS.toFixed(1)} °C/s at ${fmtTime(fastest.atMs)})`,
+          `(fastest ${fastest.rateCPerS.toFixed(1)} °C/s at ${ctx.clock(fastest.atMs)})`,
       );
     }
     findings.push({

@@ -1,5 +1,5 @@
 import type { RuleContext } from '../context.js';
-import { fmtMin, fmtS, fmtTime } from '../series.js';
+import { fmtMin, fmtS } from '../series.js';
 import { dedupKeyFor, type LoadEventTimes, type ProcessWindowFinding } from '../types.js';
 
 const EVENT_ORDER: { key: keyof LoadEventTimes; name: string }[] = [
@@ -29,11 +29,11 @@ export function evaluateEventOrder(ctx: RuleContext): ProcessWindowFinding[] {
       if (earlierMs === undefined) {
         if (ctx.nowMs - laterMs > ctx.allowanceMs && !missing.includes(earlier.name)) {
           missing.push(earlier.name);
-          problems.push(`${later.name} at ${fmtTime(laterMs)} but no ${earlier.name}`);
+          problems.push(`${later.name} at ${ctx.clock(laterMs)} but no ${earlier.name}`);
         }
       } else if (earlierMs > laterMs) {
         reversed.push(`${earlier.name}>${later.name}`);
-        problems.push(`${later.name} at ${fmtTime(laterMs)} is before ${earlier.name} at ${fmtTime(earlierMs)}`);
+        problems.push(`${later.name} at ${ctx.clock(laterMs)} is before ${earlier.name} at ${ctx.clock(earlierMs)}`);
       }
     }
   }
@@ -70,7 +70,7 @@ export function evaluateTransfer(ctx: RuleContext): { findings: ProcessWindowFin
       dedupKey: dedupKeyFor(ctx.batchId, 'transfer-time'),
       channelId: null,
       message: t.open
-        ? `Transfer too long: load left the furnace at ${fmtTime(t.startMs)} and is not recorded in the bath after ${fmtS(elapsedMs)} (maximum ${ctx.window.maxTransferS} s)`
+        ? `Transfer too long: load left the furnace at ${ctx.clock(t.startMs)} and is not recorded in the bath after ${fmtS(elapsedMs)} (maximum ${ctx.window.maxTransferS} s)`
         : `Transfer too long: ${fmtS(elapsedMs)} from furnace to bath (maximum ${ctx.window.maxTransferS} s)`,
       details: { transferS: elapsedMs / 1000, maxTransferS: ctx.window.maxTransferS, stillInTransfer: t.open },
     });
