@@ -1,4 +1,5 @@
 import { describe, expect, it } from 'vitest';
+import { ENDPOINT_MATRIX } from '../../../api/src/auth/endpoint-matrix.js';
 import { computeDueItems, type DueItem as ComplianceDueItem, findPyrometryReference } from '@ausline/compliance';
 import {
   calendarDaysBetween,
@@ -12,6 +13,8 @@ import {
   localizeInstants,
   plantDate,
   plantDueRows,
+  PYROMETRY_ACTIONS,
+  pyrometryPermission,
   sortDueItems,
   unconfirmedRules,
   worstStatus,
@@ -21,7 +24,7 @@ import {
 const item = (over: Partial<DueItemLike>): DueItemLike => ({ kind: 'sat', subjectId: 's1', dueDate: '2026-03-10', status: 'ok', causes: ['within-interval'], rules: [], ...over });
 
 describe('due items on screen', () => {
-  it('puts overdue first (undated overdue before dated), then no-rule, due soon, in date; earliest date first', () => {
+  it('puts overdue first (failed or never passed before merely late), then no-rule, due soon, in date; earliest date first', () => {
     const items = [
       item({ subjectId: 'ok-late', dueDate: '2026-06-01' }),
       item({ subjectId: 'ok-early', dueDate: '2026-04-01' }),
@@ -31,8 +34,10 @@ describe('due items on screen', () => {
       item({ subjectId: 'never', status: 'overdue', dueDate: null, causes: ['never-passed'] }),
       item({ subjectId: 'norule', status: 'no-rule', dueDate: null, causes: ['no-rule'] }),
       item({ subjectId: 'ok-undated', dueDate: null }),
+      // Failed last week; its nominal due date is still ahead, but it is not qualified now.
+      item({ subjectId: 'failed', status: 'overdue', dueDate: '2026-04-20', causes: ['last-result-failed'] }),
     ];
-    expect(sortDueItems(items).map((i) => i.subjectId)).toEqual(['never', 'late-1', 'late-2', 'norule', 'soon', 'ok-early', 'ok-late', 'ok-undated']);
+    expect(sortDueItems(items).map((i) => i.subjectId)).toEqual(['never', 'failed', 'late-1', 'late-2', 'norule', 'soon', 'ok-early', 'ok-late', 'ok-undated']);
     // The input is left as it was.
     expect(items[0]!.subjectId).toBe('ok-late');
     // Same status and date: surveys before accuracy tests before calibrations.
@@ -142,5 +147,25 @@ describe('agrees with libs/compliance on what the API sends', () => {
     expect(unconfirmedRules(sorted.flatMap((i) => i.rules)).length).toBeGreaterThan(0);
     // Every status libs/compliance can send has a look.
     for (const i of json) expect(dueStatusLook(i.status).label).not.toBe('');
+  });
+});
+
+describe('pyrometry actions offered on screen agree with the API\u2019s endpoint matrix', () => {
+  it('each action names the roles its endpoint allows', () => {
+    for (const [action, rule] of Object.entries(PYROMETRY_ACTIONS)) {
+      const entry = ENDPOINT_MATRIX.find((e) => e.method === rule.method && e.path === rule.path);
+      expect(entry, `${action}: ${rule.method} ${rule.path} in the matrix`).toBeDefined();
+      expect([...((entry!.access as { roles?: readonly string[] }).roles ?? [])].sort(), action).toEqual([...rule.roles].sort());
+    }
+    // Surveys are entered under the same rule as accuracy tests.
+    const survey = ENDPOINT_MATRIX.find((e) => e.method === 'POST' && e.path === '/v1/equipment/:id/uniformity-surveys')!;
+    expect([...((survey.access as { roles?: readonly string[] }).roles ?? [])].sort()).toEqual([...PYROMETRY_ACTIONS['record-tests'].roles].sort());
+  });
+
+  it('says why a role may not', () => {
+    expect(pyrometryPermission('overdue-sweep', ['QUALITY'])).toEqual({ permitted: true, why: null });
+    expect(pyrometryPermission('overdue-sweep', ['METALLURGIST'])).toEqual({ permitted: false, why: 'needs the admin or quality role (you are metallurgist)' });
+    expect(pyrometryPermission('maintain-records', ['QUALITY', 'METALLURGIST']).permitted).toBe(false);
+    expect(pyrometryPermission('disposition', []).why).toBe('needs the quality role (you are without a role)');
   });
 });

@@ -4,8 +4,9 @@
  * API (libs/compliance) decides every status, this only presents it.
  *
  * Ordering: overdue first, then "no rule" (nobody knows the interval, so nobody can say it is in date),
- * then due soon, then in date. Within a status the earliest due date first; an overdue item without a
- * date (never passed, or failed since its last pass) comes before every dated one.
+ * then due soon, then in date. Within a status the earliest due date first; an item overdue for a reason
+ * the calendar does not show (failed since its last pass, never passed, use limit reached) comes before
+ * every one that is merely past its date, whatever its nominal due date.
  */
 
 import { formatDateTime, wallParts } from './time.js';
@@ -61,14 +62,25 @@ export function dueStatusLook(status: DueStatus): { label: string; icon: string;
 }
 
 /** Sort comparator for due items (and rows that carry one under `item`). */
+/** Overdue for a reason the calendar does not show: the equipment is not qualified whatever the date says. */
+const UNDATED_OVERDUE = ['last-result-failed', 'never-passed', 'use-limit-reached'];
+
+/** The date an item sorts by; null = before every date (overdue items) or after (the rest). */
+function sortDate(i: DueItemLike): string | null {
+  if (i.status === 'overdue' && i.causes.some((c) => UNDATED_OVERDUE.includes(c))) return null;
+  return i.dueDate;
+}
+
 export function compareDue(a: DueItemLike, b: DueItemLike): number {
   const s = DUE_STATUS_ORDER[a.status] - DUE_STATUS_ORDER[b.status];
   if (s !== 0) return s;
-  if (a.dueDate !== b.dueDate) {
-    // No date: for an overdue item the most urgent (nothing ever passed, or a failure outstanding); else last.
-    if (a.dueDate === null) return a.status === 'overdue' ? -1 : 1;
-    if (b.dueDate === null) return b.status === 'overdue' ? 1 : -1;
-    return a.dueDate < b.dueDate ? -1 : 1;
+  const da = sortDate(a);
+  const db = sortDate(b);
+  if (da !== db) {
+    // No date: for an overdue item the most urgent (failed, never passed, use limit reached); else last.
+    if (da === null) return a.status === 'overdue' ? -1 : 1;
+    if (db === null) return b.status === 'overdue' ? 1 : -1;
+    return da < db ? -1 : 1;
   }
   return (KIND_ORDER[a.kind] ?? 99) - (KIND_ORDER[b.kind] ?? 99);
 }
@@ -182,4 +194,27 @@ export function plantDueRows<T extends DueItemLike>(
     }
   }
   return rows.sort((a, b) => compareDue(a.item, b.item) || a.lineCode.localeCompare(b.lineCode) || a.equipmentCode.localeCompare(b.equipmentCode));
+}
+
+export type Role = 'METALLURGIST' | 'QUALITY' | 'ADMIN';
+export type PyrometryAction = 'maintain-records' | 'record-tests' | 'overdue-sweep' | 'disposition';
+
+/**
+ * Who may do what around pyrometry, as the API's endpoint matrix says (a unit test holds the two
+ * together): admins keep the records, admins or quality enter tests and run the overdue check, quality
+ * dispositions suspect product. The screens only keep refused buttons from being offered; the API decides.
+ */
+export const PYROMETRY_ACTIONS: Record<PyrometryAction, { roles: readonly Role[]; method: 'POST' | 'PUT'; path: string; what: string }> = {
+  'maintain-records': { roles: ['ADMIN'], method: 'PUT', path: '/v1/equipment/:id/pyrometry', what: 'keep equipment records, sensors, instruments and certificates' },
+  'record-tests': { roles: ['ADMIN', 'QUALITY'], method: 'POST', path: '/v1/equipment/:id/accuracy-tests', what: 'enter accuracy tests and uniformity surveys' },
+  'overdue-sweep': { roles: ['ADMIN', 'QUALITY'], method: 'POST', path: '/v1/pyrometry/overdue-sweep', what: 'run the overdue check' },
+  disposition: { roles: ['QUALITY'], method: 'POST', path: '/v1/deviations/:id/disposition', what: 'disposition suspect product' },
+};
+
+const ROLE_WORD: Record<Role, string> = { METALLURGIST: 'metallurgist', QUALITY: 'quality', ADMIN: 'admin' };
+
+export function pyrometryPermission(action: PyrometryAction, roles: readonly Role[]): { permitted: boolean; why: string | null } {
+  const rule = PYROMETRY_ACTIONS[action];
+  if (roles.some((r) => rule.roles.includes(r))) return { permitted: true, why: null };
+  return { permitted: false, why: `needs the ${rule.roles.map((r) => ROLE_WORD[r]).join(' or ')} role (you are ${roles.map((r) => ROLE_WORD[r]).join(', ') || 'without a role'})` };
 }
