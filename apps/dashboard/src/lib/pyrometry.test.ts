@@ -5,7 +5,10 @@ import {
   calendarDaysBetween,
   compareDue,
   countByStatus,
+  dueDateText,
   dueStatusLook,
+  fmtRuleKey,
+  nameIds,
   dueWhen,
   fmtCorrections,
   fmtDueKind,
@@ -70,7 +73,11 @@ describe('due items on screen', () => {
     expect(dueWhen(item({ status: 'due-soon', dueDate: '2026-03-04' }), '2026-03-04')).toBe('due today (last day in date)');
     expect(dueWhen(item({ dueDate: '2026-03-16' }), '2026-03-04')).toBe('in 12 days');
     expect(dueWhen(item({ status: 'overdue', dueDate: null, causes: ['never-passed'] }), '2026-03-04')).toBe('no passing result on record');
-    expect(dueWhen(item({ status: 'overdue', dueDate: '2026-04-01', causes: ['last-result-failed'] }), '2026-03-04')).toBe('last result failed, not passed since (was due 2026-04-01)');
+    expect(dueWhen(item({ status: 'overdue', dueDate: '2026-04-01', causes: ['last-result-failed'] }), '2026-03-04')).toBe('last result failed, not passed since');
+    expect(dueWhen(item({ status: 'overdue', dueDate: '2026-03-01', causes: ['last-result-failed'] }), '2026-03-04')).toBe('last result failed, not passed since; also past its due date by 3 days');
+    expect(dueDateText(item({ status: 'overdue', dueDate: '2026-04-01', causes: ['last-result-failed'] }))).toBe('now');
+    expect(dueDateText(item({ status: 'overdue', dueDate: '2026-03-01', causes: ['past-due-date'] }))).toBe('2026-03-01');
+    expect(dueDateText(item({ status: 'no-rule', dueDate: null, causes: ['no-rule'] }))).toBe('—');
     expect(dueWhen(item({ status: 'no-rule', dueDate: null, causes: ['no-rule'] }), '2026-03-04')).toMatch(/^interval not given/);
   });
 
@@ -90,6 +97,16 @@ describe('due items on screen', () => {
     expect(fmtUses(1, 'unlimited')).toBe('1 use (no use limit)');
     expect(fmtUses(4, null)).toBe('4 uses (limit not given)');
     expect(fmtUses(undefined, 30)).toBeNull();
+  });
+
+  it('names ids by serial or code and rule keys in words, without the reference set the page names once', () => {
+    const names = new Map([['4a15eb18-7af3-4a29-b5e5-3b1a6a707f9d', 'HV-B1-TC1']]);
+    expect(nameIds('no interval for sensor 4A15EB18-7af3-4a29-b5e5-3b1a6a707f9d in AMS2750G', names)).toBe('no interval for sensor HV-B1-TC1 in AMS2750G');
+    expect(nameIds('survey of 8de7a3d1-b270-4695-813d-109377cb6b77 failed', names)).toBe('survey of 8de7a3d1 failed');
+    const overlay = 'AMS2750G+overlay(Customer spec HT-7 (invented))';
+    expect(fmtRuleKey(`${overlay} tusInterval class 5 type B`, ['AMS2750G', overlay])).toBe('survey interval class 5 type B');
+    expect(fmtRuleKey('AMS2750G satDifferenceLimit class 2', ['AMS2750G'])).toBe('accuracy test limit class 2');
+    expect(fmtRuleKey('CQI9_4 satInterval probe', ['AMS2750G'])).toBe('CQI9_4 accuracy test interval probe');
   });
 
   it('lists each unconfirmed reference value once, and never a confirmed one', () => {

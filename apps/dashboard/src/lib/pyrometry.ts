@@ -133,8 +133,45 @@ export function dueWhen(item: DueItemLike, today: string): string {
           : null;
   if (item.dueDate === null) return lead ?? '—';
   const d = calendarDaysBetween(today, item.dueDate);
-  const when = d < 0 ? `overdue by ${days(-d)}` : d === 0 ? 'due today (last day in date)' : `in ${days(d)}`;
-  return lead ? `${lead} (${d < 0 ? when : `was due ${item.dueDate}`})` : when;
+  // A failure or a reached limit governs; a nominal date still ahead would only mislead.
+  if (lead) return d < 0 ? `${lead}; also past its due date by ${days(-d)}` : lead;
+  return d < 0 ? `overdue by ${days(-d)}` : d === 0 ? 'due today (last day in date)' : `in ${days(d)}`;
+}
+
+/** The due-date cell: "now" when the item is overdue whatever its date says, else the plant date. */
+export function dueDateText(item: DueItemLike): string {
+  if (sortDate(item) === null && item.status === 'overdue') return 'now';
+  return item.dueDate ?? '—';
+}
+
+const UUID = /\b[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}\b/gi;
+
+/** Ids in API texts (reasons, rule keys) replaced by the serials and codes people read on the tags. */
+export function nameIds(text: string, names: ReadonlyMap<string, string>): string {
+  return text.replace(UUID, (id) => names.get(id.toLowerCase()) ?? id.slice(0, 8));
+}
+
+const RULE_ITEM_WORD: Record<string, string> = {
+  tusInterval: 'survey interval',
+  satInterval: 'accuracy test interval',
+  satDifferenceLimit: 'accuracy test limit',
+  uniformityTolerance: 'uniformity tolerance',
+  sensorCalibrationInterval: 'sensor calibration interval',
+  instrumentCalibrationInterval: 'instrument calibration interval',
+  sensorReplacement: 'sensor replacement',
+  sensorAccuracy: 'sensor accuracy',
+  instrumentAccuracy: 'instrument accuracy',
+  expiresOn: 'expiry date on record',
+};
+
+/**
+ * A rule key such as "AMS2750G+overlay(HT-7) tusInterval class 5 type B" in words, without the reference
+ * set (the page names it once): "survey interval class 5 type B".
+ */
+export function fmtRuleKey(key: string, referenceIds: readonly string[] = []): string {
+  const prefix = [...referenceIds].sort((a, b) => b.length - a.length).find((r) => key.startsWith(`${r} `));
+  const rest = prefix ? key.slice(prefix.length + 1) : key;
+  return rest.split(' ').map((w) => RULE_ITEM_WORD[w] ?? w).join(' ');
 }
 
 /** "12 of 30 uses", "12 uses (no limit)", or null when the item is not about uses. */

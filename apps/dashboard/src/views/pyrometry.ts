@@ -16,12 +16,15 @@ import type { ViewFactory } from '../app/view.js';
 import { fmtC, fmtDisposition } from '../lib/format.js';
 import {
   countByStatus,
+  dueDateText,
   dueStatusLook,
   dueWhen,
   fmtCorrections,
   fmtDueKind,
+  fmtRuleKey,
   fmtUses,
   localizeInstants,
+  nameIds,
   plantDate,
   plantDueRows,
   pyrometryPermission,
@@ -37,9 +40,9 @@ import { facts, loading, statusChip } from '../ui/widgets.js';
 
 /**
  * Pyrometry (issue 8): the due list across the plant or one line, and the status of one furnace or bath
- * (record, sensors, instruments, latest tests, what is due, suspect product). Read-only for everyone:
- * admins keep records and admins or quality enter tests through the API; quality dispositions suspect
- * product in the deviation view. Every reference value behind a date or a verdict that is not confirmed
+ * (record, sensors, instruments, latest tests, what is due, suspect product). Read-only apart from the
+ * overdue check (admin or quality, as the API allows): admins keep records and admins or quality enter
+ * tests through the API; quality dispositions suspect product in the deviation view. Every reference value behind a date or a verdict that is not confirmed
  * for the revision in use carries a flag, and the page says to confirm it against the plant's own copy.
  *
  * Routes: #/pyrometry[?lineId=] (due list), #/pyrometry/equipment/<id> (equipment status).
@@ -64,16 +67,18 @@ function unconfirmedChip(rule: { key: string; note: string }): HTMLElement {
   return h('span', { class: 'flag-unconfirmed', dataset: { unconfirmed: rule.key }, attrs: { title: rule.note } }, h('span', { attrs: { 'aria-hidden': 'true' } }, '⚑ '), 'unconfirmed');
 }
 
-function ruleCell(rules: readonly RuleUsed[]): Child {
+function ruleCell(rules: readonly RuleUsed[], names: Names): Child {
   if (rules.length === 0) return '—';
-  return rules.map((r) => h('div', { class: 'rule-used' }, h('span', null, r.value), ' ', h('span', { class: 'muted small' }, `(${r.key})`), r.confirmed ? null : [' ', unconfirmedChip(r)]));
+  return rules.map((r) =>
+    h('div', { class: 'rule-used' }, h('span', null, nameIds(r.value, names.ids)), ' ',
+      h('span', { class: 'muted small', attrs: { title: nameIds(r.key, names.ids) } }, `(${nameIds(fmtRuleKey(r.key, names.referenceIds), names.ids)})`), r.confirmed ? null : [' ', unconfirmedChip(r)]));
 }
 
 /**
  * The plant-visible warning: which reference values on this screen nobody has confirmed for the revision,
  * and what to do about it.
  */
-function unconfirmedNotice(rules: readonly RuleUsed[], standardText: string): HTMLElement | null {
+function unconfirmedNotice(rules: readonly RuleUsed[], standardText: string, names: Names): HTMLElement | null {
   if (rules.length === 0) return null;
   return h(
     'aside',
@@ -83,7 +88,7 @@ function unconfirmedNotice(rules: readonly RuleUsed[], standardText: string): HT
     h('details', null, h('summary', null, 'Show the values and where they come from'),
       h('table', { class: 'compact', attrs: { 'aria-label': 'Unconfirmed reference values' } },
         h('thead', null, h('tr', null, ...['Reference value', 'Value used', 'Source and what to check'].map((x) => h('th', { attrs: { scope: 'col' } }, x)))),
-        h('tbody', null, ...rules.map((r) => h('tr', null, h('td', { class: 'ref' }, r.key), h('td', null, r.value), h('td', { class: 'small' }, r.note)))))),
+        h('tbody', null, ...rules.map((r) => h('tr', null, h('td', { class: 'ref' }, nameIds(r.key, names.ids)), h('td', null, nameIds(r.value, names.ids)), h('td', { class: 'small' }, r.note)))))),
   );
 }
 
@@ -127,6 +132,22 @@ function sweepButton(ctx: AppContext, equipmentId: string | null, out: HTMLEleme
 interface Names {
   sensors: Map<string, PyrometrySensor>;
   instruments: Map<string, PyrometryInstrument>;
+  /** Every id a text from the API may name (sensor, instrument, equipment) → serial or code. */
+  ids: Map<string, string>;
+  /** Reference sets in use on the page; rule keys are shown without them. */
+  referenceIds: string[];
+}
+
+function namesOf(sensors: readonly PyrometrySensor[], instruments: readonly PyrometryInstrument[], lines: readonly Line[], referenceIds: readonly string[]): Names {
+  const ids = new Map<string, string>();
+  for (const l of lines) for (const e of l.equipment) ids.set(e.id, e.code);
+  for (const x of [...sensors, ...instruments]) ids.set(x.id, x.serial);
+  return { sensors: new Map(sensors.map((x) => [x.id, x])), instruments: new Map(instruments.map((x) => [x.id, x])), ids, referenceIds: [...new Set(referenceIds)] };
+}
+
+/** A text from the API (reason, evidence) as people read it: plant time, serials and codes instead of ids. */
+function apiText(text: string, names: Names, zone: string): string {
+  return nameIds(localizeInstants(text, zone), names.ids);
 }
 
 function subjectName(item: { kind: string; subjectId: string }, names: Names, equipmentCode: string): string {
@@ -135,7 +156,7 @@ function subjectName(item: { kind: string; subjectId: string }, names: Names, eq
   if (sensor) return `${sensor.serial} (${sensor.use} TC, type ${sensor.thermocoupleType})`;
   const instrument = names.instruments.get(item.subjectId);
   if (instrument) return `${instrument.serial} (${instrument.use} instrument)`;
-  return item.subjectId.slice(0, 8);
+  return names.ids.get(item.subjectId) ?? item.subjectId.slice(0, 8);
 }
 
 // --- due list --------------------------------------------------------------------------------------------
@@ -176,7 +197,8 @@ function dueListView(ctx: AppContext, query: URLSearchParams) {
         ctx.api.get<PyrometryInstrument[]>('/v1/pyrometry/instruments'),
       ]);
       if (disposed) return;
-      render(lists, { sensors: new Map(sensors.map((s) => [s.id, s])), instruments: new Map(instruments.map((i) => [i.id, i])) });
+      const referenceIds = lists.flatMap((l) => [...l.equipment.map((e) => e.referenceId), ...l.testKit.flatMap((i) => i.referenceIds)]);
+      render(lists, namesOf(sensors, instruments, lines, referenceIds));
       el.dataset['loaded'] = 'true';
     } catch (error) {
       showError(body, error, 'Reading the pyrometry due list');
@@ -193,7 +215,6 @@ function dueListView(ctx: AppContext, query: URLSearchParams) {
     const rows = plantDueRows(lists);
     const counts = countByStatus(rows.map((r) => r.item));
     const unconfirmed = unconfirmedRules(rows.flatMap((r) => r.item.rules));
-    const referenceIds = [...new Set(lists.flatMap((l) => l.equipment.map((e) => e.referenceId)))];
     const notEnrolled = lists.flatMap((l) => l.notEnrolled.map((e) => ({ ...e, lineCode: l.lineCode })));
 
     const summary = h('p', { class: 'due-summary', dataset: { overdue: String(counts.overdue) } },
@@ -213,21 +234,21 @@ function dueListView(ctx: AppContext, query: URLSearchParams) {
           h('li', { dataset: { equipmentId: e.equipmentId } }, dueChip(sortDueItems(e.items)[0]?.status ?? 'ok'), ' ', link(`/pyrometry/equipment/${e.equipmentId}`, `${e.equipmentCode}`), h('span', { class: 'muted small' }, ` ${e.kind.toLowerCase()}, ${l.lineCode}, ${e.referenceId}`)))),
         ...notEnrolled.map((e) => h('li', { dataset: { equipmentId: e.equipmentId } }, h('span', { class: 'due-chip no-rule' }, 'No record'), ' ', link(`/pyrometry/equipment/${e.equipmentId}`, e.equipmentCode), h('span', { class: 'muted small' }, ` ${e.lineCode}: not enrolled, so its compliance cannot be shown`)))));
 
-    replace(body, summary, unconfirmedNotice(unconfirmed, referenceIds.join(', ') || 'the standard in use'), table, overview, roleNote(ctx), reportsOnlyNote());
+    replace(body, summary, unconfirmedNotice(unconfirmed, names.referenceIds.join(', ') || 'the standard in use', names), table, overview, roleNote(ctx), reportsOnlyNote());
   }
 
   function dueRow(r: DueRow<DueItem>, names: Names, today: string): HTMLElement {
     const i = r.item;
     const uses = fmtUses(i.usesSoFar, i.usesLimit);
-    return h('tr', { class: `due-row ${dueStatusLook(i.status).cls}`, dataset: { status: i.status, kind: i.kind, equipmentId: r.equipmentId ?? 'test-kit', subjectId: i.subjectId } },
+    return h('tr', { class: `due-row due-${dueStatusLook(i.status).cls}`, dataset: { status: i.status, kind: i.kind, equipmentId: r.equipmentId ?? 'test-kit', subjectId: i.subjectId } },
       h('td', null, dueChip(i.status)),
-      h('td', { class: 'nowrap' }, i.dueDate ?? '—'),
+      h('td', { class: 'nowrap' }, dueDateText(i)),
       h('td', null, dueWhen(i, today), uses ? h('div', { class: 'muted small' }, uses) : null),
       h('td', null, fmtDueKind(i.kind)),
       h('td', null, subjectName(i, names, r.equipmentCode)),
       h('td', { class: 'short' }, r.equipmentId ? link(`/pyrometry/equipment/${r.equipmentId}`, r.equipmentCode) : r.equipmentCode),
       h('td', { class: 'short' }, r.lineCode),
-      h('td', null, ruleCell(i.rules)),
+      h('td', null, ruleCell(i.rules, names)),
     );
   }
 
@@ -268,14 +289,15 @@ function equipmentView(ctx: AppContext, equipmentId: string) {
       if (disposed) return;
       const line = lines.find((l) => l.id === status.equipment.lineId);
       const channels = new Map((line?.equipment.find((e) => e.id === equipmentId)?.channels ?? []).map((c) => [c.id, c.code]));
-      render(status, triggers, channels, line?.code ?? '');
+      const names = status.enrolled ? namesOf(status.sensors, status.instruments, lines, [status.reference.id]) : namesOf([], [], lines, []);
+      render(status, triggers, channels, line?.code ?? '', names);
       el.dataset['loaded'] = 'true';
     } catch (error) {
       showError(body, error, 'Reading the equipment\u2019s pyrometry');
     }
   }
 
-  function render(status: EquipmentPyrometry, triggers: SuspectTriggerRow[], channels: Map<string, string>, lineCode: string): void {
+  function render(status: EquipmentPyrometry, triggers: SuspectTriggerRow[], channels: Map<string, string>, lineCode: string, names: Names): void {
     const eq = status.equipment;
     const isBath = eq.kind === 'BATH';
     replace(heading, `${eq.code} · ${eq.name}`, h('span', { class: 'muted small' }, ` ${isBath ? 'salt bath' : 'furnace'}, line ${lineCode}`));
@@ -284,7 +306,7 @@ function equipmentView(ctx: AppContext, equipmentId: string) {
     if (!status.enrolled) {
       replace(body,
         infoBox(`${eq.code} has no pyrometry record, so its compliance cannot be shown and its batches are not checked against it. An admin enters the record (class, instrumentation type, standard and revision${isBath ? ', and whether this bath is surveyed as a salt bath or counts as a controlled-temperature quench bath' : ''}).`),
-        suspectCard(triggers, new Map(), new Map(), eq.code),
+        suspectCard(triggers, names, eq.code),
         roleNote(ctx),
         isBath ? bathSafetyNotes() : null);
       return;
@@ -292,9 +314,6 @@ function equipmentView(ctx: AppContext, equipmentId: string) {
     const lineZone = status.timeZone;
     const today = plantDate(Date.parse(status.at), lineZone);
     const items = sortDueItems(status.dueItems);
-    const sensors = new Map(status.sensors.map((s) => [s.id, s]));
-    const instruments = new Map(status.instruments.map((i) => [i.id, i]));
-    const names: Names = { sensors, instruments };
     const record = status.record;
     const limitRules: RuleUsed[] = [
       ...status.recentAccuracyTests.map((t) => t.result.limit).filter((l): l is NonNullable<typeof l> => l !== null).map((l) => ({ key: l.key, value: l.text, confirmed: l.confirmed, note: l.note })),
@@ -307,7 +326,7 @@ function equipmentView(ctx: AppContext, equipmentId: string) {
       h('strong', null, h('span', { attrs: { 'aria-hidden': 'true' } }, status.compliant ? '● ' : '■ '),
         status.compliant ? 'In compliance now: nothing overdue or failed.' : `Not in compliance now: ${status.findings.length} finding${status.findings.length === 1 ? '' : 's'}. Batches started now raise a deviation.`),
       status.findings.length > 0
-        ? h('ul', null, ...status.findings.map((f) => h('li', null, `${fmtDueKind(f.itemKind)} — ${subjectName(f, names, eq.code)}: `, localizeInstants(f.reason, zone))))
+        ? h('ul', null, ...status.findings.map((f) => h('li', null, `${fmtDueKind(f.itemKind)} — ${subjectName(f, names, eq.code)}: `, apiText(f.reason, names, zone))))
         : null);
 
     const recordCard = h('section', { class: 'card' }, h('h2', null, 'Record'),
@@ -329,35 +348,35 @@ function equipmentView(ctx: AppContext, equipmentId: string) {
         h('thead', null, h('tr', null, ...['Status', 'Due (plant date)', 'When', 'What', 'Sensor, instrument or zone', 'Last pass', 'Interval or limit used'].map((x) => h('th', { attrs: { scope: 'col' } }, x)))),
         h('tbody', null, ...items.map((i) => {
           const uses = fmtUses(i.usesSoFar, i.usesLimit);
-          return h('tr', { class: `due-row ${dueStatusLook(i.status).cls}`, dataset: { status: i.status, kind: i.kind, subjectId: i.subjectId } },
+          return h('tr', { class: `due-row due-${dueStatusLook(i.status).cls}`, dataset: { status: i.status, kind: i.kind, subjectId: i.subjectId } },
             h('td', null, dueChip(i.status)),
-            h('td', { class: 'nowrap' }, i.dueDate ?? '—'),
+            h('td', { class: 'nowrap' }, dueDateText(i)),
             h('td', null, dueWhen(i, today), uses ? h('div', { class: 'muted small' }, uses) : null),
             h('td', null, fmtDueKind(i.kind)),
             h('td', null, subjectName(i, names, eq.code)),
-            h('td', { class: 'nowrap' }, i.lastPassAt ? formatDateTime(i.lastPassAt, zone) : 'never'),
-            h('td', null, ruleCell(i.rules)));
+            h('td', { class: 'nowrap' }, i.kind === 'sensor-replacement' || i.kind === 'sensor-expiry' ? '—' : i.lastPassAt ? formatDateTime(i.lastPassAt, zone) : 'never'),
+            h('td', null, ruleCell(i.rules, names)));
         })))));
 
     replace(body,
       compliance,
-      unconfirmedNotice(unconfirmed, standardText),
-      suspectCard(triggers, sensors, instruments, eq.code),
-      h('div', { class: 'pyro-grid' }, dueCard, recordCard),
+      unconfirmedNotice(unconfirmed, standardText, names),
+      h('div', { class: 'pyro-grid' }, suspectCard(triggers, names, eq.code), recordCard),
+      dueCard,
       sensorsCard(status.sensors, items, channels, today),
       instrumentsCard(status.instruments, items, channels, today),
-      testsCard(status.recentAccuracyTests, sensors),
-      surveysCard(status.recentUniformitySurveys),
+      testsCard(status.recentAccuracyTests, names),
+      surveysCard(status.recentUniformitySurveys, names),
       h('div', { class: 'pyro-actions' }, sweepButton(ctx, eq.id, messages, () => void load())),
       roleNote(ctx),
       reportsOnlyNote(),
       isBath ? bathSafetyNotes() : null);
   }
 
-  function suspectCard(triggers: SuspectTriggerRow[], sensors: Map<string, PyrometrySensor>, instruments: Map<string, PyrometryInstrument>, code: string): HTMLElement {
+  function suspectCard(triggers: SuspectTriggerRow[], names: Names, code: string): HTMLElement {
     const open = triggers.flatMap((t) => t.deviations).filter((d) => d.status === 'OPEN' || d.status === 'ACKNOWLEDGED');
     const card = h('section', { class: `card suspect ${open.length > 0 ? 'has-open' : ''}`, dataset: { openSuspect: String(open.length) } },
-      h('h2', null, 'Suspect product', open.length > 0 ? h('span', { class: 'dev-count major' }, ` ${open.length} open`) : null));
+      h('h2', null, 'Suspect product', open.length > 0 ? [' ', h('span', { class: 'dev-count major' }, `${open.length} open`)] : null));
     if (triggers.length === 0) {
       card.append(h('p', { class: 'muted' }, 'No failed or late test has put product in doubt on this equipment.'));
       return card;
@@ -367,11 +386,11 @@ function equipmentView(ctx: AppContext, equipmentId: string) {
         'Loads processed since the last passing result are suspect: keep them on hold until quality has dispositioned each deviation below. Releasing suspect product to a customer needs the customer\u2019s agreement where the contract or IATF 16949 requires it.'));
     }
     for (const t of triggers) {
-      const subject = subjectName({ kind: t.itemKind, subjectId: t.subjectId }, { sensors, instruments }, code);
+      const subject = subjectName({ kind: t.itemKind, subjectId: t.subjectId }, names, code);
       card.append(h('div', { class: 'trigger', dataset: { triggerId: t.id, triggerKind: t.kind } },
         h('h3', null, t.kind === 'failed-test' ? 'Failed' : 'Found overdue', ': ', fmtDueKind(t.itemKind), ' — ', subject),
-        h('p', { class: 'small' }, localizeInstants(t.evidence.summary ?? '', zone)),
-        h('p', { class: 'muted small' }, `Look-back: loads on ${code} from ${t.lastPassAt ? `after ${formatDateTime(t.lastPassAt, zone)} (last pass)` : 'the start of the records (no pass on record)'} to ${formatDateTime(t.at, zone)}.`),
+        h('p', { class: 'small' }, apiText(t.evidence.summary ?? '', names, zone)),
+        h('p', { class: 'muted small' }, `Look-back: loads on ${code} ${t.lastPassAt ? `after the last pass at ${formatDateTime(t.lastPassAt, zone)}` : 'since the records began (no pass on record)'}, up to ${formatDateTime(t.at, zone)}.`),
         t.deviations.length === 0
           ? h('p', { class: 'muted small' }, 'No load ran on this equipment in that window.')
           : h('table', { class: 'compact', attrs: { 'aria-label': `Suspect-product deviations of this ${t.kind === 'failed-test' ? 'failure' : 'late item'}` } },
@@ -425,27 +444,27 @@ function equipmentView(ctx: AppContext, equipmentId: string) {
         })))));
   }
 
-  function limitCell(limit: { key: string; text: string; confirmed: boolean; note: string } | null): Child {
+  function limitCell(limit: { key: string; text: string; confirmed: boolean; note: string } | null, names: Names): Child {
     if (!limit) return 'no limit in the reference set';
-    return [limit.text, ' ', h('span', { class: 'muted small' }, `(${limit.key})`), limit.confirmed ? null : [' ', unconfirmedChip(limit)]];
+    return [limit.text, ' ', h('span', { class: 'muted small', attrs: { title: limit.key } }, `(${fmtRuleKey(limit.key, names.referenceIds)})`), limit.confirmed ? null : [' ', unconfirmedChip(limit)]];
   }
 
-  function testsCard(tests: AccuracyTestRow[], sensors: Map<string, PyrometrySensor>): HTMLElement {
+  function testsCard(tests: AccuracyTestRow[], names: Names): HTMLElement {
     return h('section', { class: 'card' }, h('h2', null, 'Latest accuracy tests'),
       tests.length === 0 ? h('p', { class: 'muted' }, 'None on record.') : h('div', { class: 'table-wrap' }, h('table', { class: 'list', attrs: { 'aria-label': 'Latest accuracy tests, newest first' } },
         h('thead', null, h('tr', null, ...[`Tested (${zone})`, 'Sensor', 'Setpoint', 'System reads', 'Test sensor reads', 'Difference (corrected)', 'Allowed', 'Verdict'].map((x) => h('th', { attrs: { scope: 'col' } }, x)))),
         h('tbody', null, ...tests.map((t) => h('tr', { dataset: { verdict: t.verdict } },
           h('td', { class: 'nowrap' }, formatDateTime(t.testedAt, zone)),
-          h('td', { class: 'short' }, sensors.get(t.sensorId)?.serial ?? t.sensorId.slice(0, 8)),
+          h('td', { class: 'short' }, names.sensors.get(t.sensorId)?.serial ?? t.sensorId.slice(0, 8)),
           h('td', { class: 'num' }, fmtC(t.setpointC)),
           h('td', { class: 'num' }, fmtC(t.instrumentReadingC, 2)),
           h('td', { class: 'num' }, fmtC(t.testSensorReadingC, 2)),
           h('td', { class: 'num' }, t.verdict === 'invalid' ? '—' : `${t.result.differenceC > 0 ? '+' : ''}${fmtC(t.result.differenceC, 2)}`),
-          h('td', null, limitCell(t.result.limit)),
+          h('td', null, limitCell(t.result.limit, names)),
           h('td', null, verdictChip(t.verdict), t.result.problems.length ? h('div', { class: 'small warn' }, t.result.problems.join('; ')) : null)))))));
   }
 
-  function surveysCard(surveys: UniformitySurveyRow[]): HTMLElement {
+  function surveysCard(surveys: UniformitySurveyRow[], names: Names): HTMLElement {
     return h('section', { class: 'card' }, h('h2', null, 'Latest uniformity surveys'),
       surveys.length === 0 ? h('p', { class: 'muted' }, 'None on record.') : h('div', { class: 'table-wrap' }, h('table', { class: 'list', attrs: { 'aria-label': 'Latest uniformity surveys, newest first' } },
         h('thead', null, h('tr', null, ...[`Ended (${zone})`, 'Setpoint', 'Worst reading', 'Spread', 'Tolerance', 'Verdict'].map((x) => h('th', { attrs: { scope: 'col' } }, x)))),
@@ -454,7 +473,7 @@ function equipmentView(ctx: AppContext, equipmentId: string) {
           h('td', { class: 'num' }, fmtC(s.setpointC)),
           h('td', null, s.result.worst ? `${s.result.worst.deviationC > 0 ? '+' : ''}${fmtC(s.result.worst.deviationC, 1)} at ${s.result.worst.locationId}` : '—'),
           h('td', { class: 'num' }, fmtC(s.result.spreadC, 1)),
-          h('td', null, limitCell(s.result.tolerance)),
+          h('td', null, limitCell(s.result.tolerance, names)),
           h('td', null, verdictChip(s.verdict), s.result.problems.length ? h('div', { class: 'small warn' }, s.result.problems.join('; ')) : null)))))));
   }
 
