@@ -187,6 +187,7 @@ describe('pyrometry screens in Chromium', { timeout: 60_000 }, () => {
     expect(await suspect.locator('.caution').isVisible()).toBe(true);
     // The salt-bath safety notes, as on the other bath screens.
     expect(await page.locator('details.safety summary').textContent()).toBe('Salt bath safety');
+    expect(await page.locator('[aria-label="Latest uniformity surveys, newest first"]').locator('xpath=ancestor::section[1]').locator('.caution').textContent()).toContain('dry and preheated');
     // Quality may run the overdue check here.
     expect(await page.getByRole('button', { name: 'Check for overdue items now' }).isDisabled()).toBe(false);
     await screenshot(page, '19-equipment-status');
@@ -194,6 +195,8 @@ describe('pyrometry screens in Chromium', { timeout: 60_000 }, () => {
     await links.first().click();
     await page.waitForSelector('section.deviation-detail .deviation-panel');
     expect(await page.locator('.dev-message').textContent()).toMatch(/^Suspect product: processed on AUS-1-B/);
+    // ...and back from the deviation to the bath's status.
+    expect(await page.locator(`.deviation-panel a[href="#/pyrometry/equipment/${line.bathId}"]`).textContent()).toBe('AUS-1-B: pyrometry status');
     await eventually(async () => page.url().includes('#/deviations/'), 5_000, 'the deviation route');
     expect(unexpectedProblems(problems)).toEqual([]);
   });

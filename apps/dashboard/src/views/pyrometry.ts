@@ -337,7 +337,7 @@ function equipmentView(ctx: AppContext, equipmentId: string) {
         ['Standard', `${record.standard} revision ${record.revision}`],
         ['Reference set', status.reference.id],
         ['Customer requirement', record.customerOverlay ? record.customerOverlay.source : 'none entered'],
-        ['Uniformity surveys', record.tusRequired ? 'required' : isBath ? 'not required: counted as a controlled-temperature quench bath (agree this with the customer)' : 'not required'],
+        ['Uniformity surveys', record.tusRequired ? (isBath ? 'required: surveyed as a salt bath' : 'required') : isBath ? 'not required: counted as a controlled-temperature quench bath (agree this with the customer)' : 'not required'],
         ['Limits stated in', record.limitUnit === 'F' ? '°F' : '°C'],
         ['Values in the set still to confirm', h('span', null, String(status.reference.unconfirmedValues), status.reference.unconfirmedValues > 0 ? [' ', unconfirmedChip({ key: status.reference.id, note: `${status.reference.unconfirmedValues} values of ${status.reference.id} are not confirmed for this revision; confirm against the plant's copy of the standard` })] : null)],
         ['Status as of', `${formatDateTime(status.at, zone)} (${zone})`],
@@ -366,7 +366,7 @@ function equipmentView(ctx: AppContext, equipmentId: string) {
       sensorsCard(status.sensors, items, channels, today),
       instrumentsCard(status.instruments, items, channels, today),
       testsCard(status.recentAccuracyTests, names),
-      surveysCard(status.recentUniformitySurveys, names),
+      surveysCard(status.recentUniformitySurveys, names, isBath),
       h('div', { class: 'pyro-actions' }, sweepButton(ctx, eq.id, messages, () => void load())),
       roleNote(ctx),
       reportsOnlyNote(),
@@ -464,8 +464,12 @@ function equipmentView(ctx: AppContext, equipmentId: string) {
           h('td', null, verdictChip(t.verdict), t.result.problems.length ? h('div', { class: 'small warn' }, t.result.problems.join('; ')) : null)))))));
   }
 
-  function surveysCard(surveys: UniformitySurveyRow[], names: Names): HTMLElement {
+  function surveysCard(surveys: UniformitySurveyRow[], names: Names, isBath: boolean): HTMLElement {
     return h('section', { class: 'card' }, h('h2', null, 'Latest uniformity surveys'),
+      isBath
+        ? h('aside', { class: 'caution', attrs: { role: 'note', 'aria-label': 'Caution' } }, h('strong', null, 'Caution. '),
+            'Survey and test thermocouples, their sheaths and fixtures go into the salt only clean, dry and preheated: water on them can throw molten salt (see Salt bath safety below).')
+        : null,
       surveys.length === 0 ? h('p', { class: 'muted' }, 'None on record.') : h('div', { class: 'table-wrap' }, h('table', { class: 'list', attrs: { 'aria-label': 'Latest uniformity surveys, newest first' } },
         h('thead', null, h('tr', null, ...[`Ended (${zone})`, 'Setpoint', 'Worst reading', 'Spread', 'Tolerance', 'Verdict'].map((x) => h('th', { attrs: { scope: 'col' } }, x)))),
         h('tbody', null, ...surveys.map((s) => h('tr', { dataset: { verdict: s.verdict } },
