@@ -212,6 +212,8 @@ function dueListView(ctx: AppContext, query: URLSearchParams) {
     }
     const zone = lists[0]!.timeZone;
     const today = plantDate(Date.now(), zone);
+    // Lines in other zones count their own calendar days.
+    const todayOf = new Map(lists.map((l) => [l.lineCode, plantDate(Date.parse(l.at), l.timeZone)]));
     const rows = plantDueRows(lists);
     const counts = countByStatus(rows.map((r) => r.item));
     const unconfirmed = unconfirmedRules(rows.flatMap((r) => r.item.rules));
@@ -225,7 +227,7 @@ function dueListView(ctx: AppContext, query: URLSearchParams) {
       ? infoBox('Nothing to show: no equipment on these lines has a pyrometry record yet.')
       : h('div', { class: 'table-wrap' }, h('table', { class: 'list due-table', attrs: { 'aria-label': 'Pyrometry due list, overdue first' } },
           h('thead', null, h('tr', null, ...['Status', 'Due (plant date)', 'When', 'What', 'Sensor, instrument or zone', 'Equipment', 'Line', 'Interval or limit used'].map((x) => h('th', { attrs: { scope: 'col' } }, x)))),
-          h('tbody', null, ...rows.map((r) => dueRow(r, names, today)))));
+          h('tbody', null, ...rows.map((r) => dueRow(r, names, todayOf.get(r.lineCode) ?? today)))));
 
     const overview = h('div', { class: 'equipment-overview' },
       h('h2', null, 'Equipment'),
