@@ -15,6 +15,7 @@ import { deviationsView } from './views/deviations.js';
 import { driftView } from './views/drift.js';
 import { heatView } from './views/heat.js';
 import { heatsView } from './views/heats.js';
+import { pyrometryView } from './views/pyrometry.js';
 import { signInView } from './views/signin.js';
 
 /**
@@ -33,6 +34,7 @@ const ROUTES: Record<string, ViewFactory> = {
   drift: driftView,
   heats: (c, r) => (r.parts[1] ? heatView(c, r) : heatsView(c, r)),
   deviations: deviationsView,
+  pyrometry: pyrometryView,
   admin: adminView,
 };
 
@@ -42,6 +44,7 @@ const NAV: Array<{ route: string; label: string; key: string }> = [
   { route: '/heats', label: 'Heats', key: 'heats' },
   { route: '/deviations', label: 'Deviations', key: 'deviations' },
   { route: '/drift', label: 'Drift', key: 'drift' },
+  { route: '/pyrometry', label: 'Pyrometry', key: 'pyrometry' },
   { route: '/admin', label: 'Plant & specs', key: 'admin' },
 ];
 

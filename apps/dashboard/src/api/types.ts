@@ -350,3 +350,182 @@ export interface CreatedUser {
 export type LiveEvent =
   | { type: 'batch.updated'; batchId: string; lineId: string; at: string }
   | { type: 'deviation.changed'; deviationId: string; batchId: string | null; lineId: string | null; rule: string; status: string; at: string };
+
+// --- pyrometry (issue 8; apps/api/src/pyrometry/README.md) --------------------------------------------
+
+export type DueStatus = 'ok' | 'due-soon' | 'overdue' | 'no-rule';
+export type DueItemKind = 'tus' | 'sat' | 'sensor-calibration' | 'instrument-calibration' | 'sensor-replacement' | 'sensor-expiry';
+
+/** A reference value an item or a verdict was computed with; `confirmed` false = check the plant's copy of the standard. */
+export interface RuleUsed {
+  key: string;
+  value: string;
+  confirmed: boolean;
+  note: string;
+}
+
+/** libs/compliance DueItem as JSON. */
+export interface DueItem {
+  kind: DueItemKind;
+  equipmentId: string;
+  subjectId: string;
+  /** Plant-local calendar date YYYY-MM-DD. */
+  dueDate: string | null;
+  status: DueStatus;
+  causes: string[];
+  reason: string;
+  lastPassAt: string | null;
+  lastFailAt: string | null;
+  usesSoFar?: number;
+  usesLimit?: number | 'unlimited' | null;
+  rules: RuleUsed[];
+}
+
+/** The limit a test was judged against (libs/compliance LimitUsed). */
+export interface LimitUsed {
+  key: string;
+  bandC: number;
+  text: string;
+  confirmed: boolean;
+  note: string;
+}
+
+export interface PyrometryRecord {
+  equipmentId: string;
+  furnaceClass: number;
+  instrumentationType: string;
+  satMethod: string | null;
+  standard: string;
+  revision: string;
+  tusRequired: boolean;
+  customerOverlay: { source: string; entries: unknown[] } | null;
+  limitUnit: string;
+}
+
+export interface CalibrationPointJson {
+  atC: number;
+  correctionC: number;
+}
+
+export interface PyrometrySensor {
+  id: string;
+  serial: string;
+  equipmentId: string | null;
+  channelId: string | null;
+  use: string;
+  thermocoupleType: string;
+  expendable: boolean;
+  calibrationCertificateRef: string | null;
+  calibrationPoints: CalibrationPointJson[];
+  calibratedAt: string | null;
+  correctionMethod: string;
+  installedAt: string;
+  retiredAt: string | null;
+  priorUses: number;
+  priorMaxTempC: number | null;
+  expiresOn: string | null;
+  usesSoFar?: number;
+}
+
+export interface PyrometryInstrument {
+  id: string;
+  serial: string;
+  equipmentId: string | null;
+  channelId: string | null;
+  use: string;
+  statedAccuracy: { plusMinusC: number; pctOfReading?: number | null } | null;
+  calibrationCertificateRef: string | null;
+  calibrationPoints: CalibrationPointJson[];
+  calibratedAt: string | null;
+  correctionMethod: string;
+  installedAt: string;
+  retiredAt: string | null;
+}
+
+export interface AccuracyTestRow {
+  id: string;
+  equipmentId: string;
+  sensorId: string;
+  testSensorId: string;
+  testedAt: string;
+  setpointC: number;
+  instrumentReadingC: number;
+  testSensorReadingC: number;
+  verdict: 'pass' | 'fail' | 'invalid';
+  passed: boolean;
+  referenceId: string;
+  recordedBy: string;
+  result: { differenceC: number; limit: LimitUsed | null; problems: string[]; notes: string[] };
+}
+
+export interface UniformitySurveyRow {
+  id: string;
+  equipmentId: string;
+  setpointC: number;
+  startedAt: string;
+  endedAt: string;
+  verdict: 'pass' | 'fail' | 'invalid';
+  passed: boolean;
+  referenceId: string;
+  recordedBy: string;
+  result: {
+    tolerance: LimitUsed | null;
+    spreadC: number | null;
+    worst: { locationId: string; deviationC: number; correctedC: number } | null;
+    failedReadings: unknown[];
+    problems: string[];
+    warnings: string[];
+  };
+}
+
+export interface SuspectTriggerRow {
+  id: string;
+  equipmentId: string;
+  kind: 'failed-test' | 'found-overdue';
+  itemKind: string;
+  subjectId: string;
+  at: string;
+  lastPassAt: string | null;
+  sourceId: string | null;
+  evidence: { summary?: string } & Record<string, unknown>;
+  deviations: Array<{ deviationId: string; batchId: string | null; batchCode: string | null; status: DeviationStatus; disposition: Disposition | null }>;
+}
+
+export interface ReferenceSummary {
+  id: string;
+  standard: string;
+  revision: string;
+  title: string;
+  overlays: string[];
+  unconfirmedValues: number;
+}
+
+/** GET /v1/equipment/:id/pyrometry */
+export type EquipmentPyrometry =
+  | { enrolled: false; equipment: Omit<Equipment, 'channels'>; at: string }
+  | {
+      enrolled: true;
+      equipment: Omit<Equipment, 'channels'>;
+      at: string;
+      timeZone: string;
+      record: PyrometryRecord;
+      reference: ReferenceSummary;
+      compliant: boolean;
+      findings: Array<{ kind: string; itemKind: DueItemKind; subjectId: string; reason: string; rules: RuleUsed[] }>;
+      dueItems: DueItem[];
+      sensors: PyrometrySensor[];
+      instruments: PyrometryInstrument[];
+      recentAccuracyTests: AccuracyTestRow[];
+      recentUniformitySurveys: UniformitySurveyRow[];
+    };
+
+/** GET /v1/lines/:id/pyrometry/due */
+export interface LineDueList {
+  lineId: string;
+  lineCode: string;
+  timeZone: string;
+  at: string;
+  equipment: Array<{ equipmentId: string; equipmentCode: string; kind: string; referenceId: string; worstStatus: DueStatus; items: DueItem[] }>;
+  testKit: Array<DueItem & { referenceIds: string[] }>;
+  notEnrolled: Array<{ equipmentId: string; equipmentCode: string }>;
+}

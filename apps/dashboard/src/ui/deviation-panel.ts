@@ -148,6 +148,7 @@ export function deviationPanel(ctx: AppContext, deviation: DeviationWithAudit, o
       ['Line', deviation.line.code],
       ['Load', deviation.batch && deviation.batchId ? link(`/batches/${deviation.batchId}`, deviation.batch.code) : '—'],
       ['Channel', deviation.channel?.code ?? '—'],
+      ...pyrometryEquipmentRow(deviation),
       [`Opened (${zone})`, formatDateTime(deviation.openedAt, zone, true)],
       ['Last evaluated', formatDateTime(deviation.lastEvaluatedAt, zone, true)],
       ['Disposition', deviation.disposition ? `${fmtDisposition(deviation.disposition)}${deviation.dispositionRef ? ` (permit ${deviation.dispositionRef})` : ''}` : '—'],
@@ -161,6 +162,16 @@ export function deviationPanel(ctx: AppContext, deviation: DeviationWithAudit, o
     !ackForm && !dispositionForm && !closeForm ? h('p', { class: 'muted' }, `No action is possible from status ${deviation.status.toLowerCase()}.`) : null,
   );
   return panel;
+}
+
+const PYROMETRY_RULES = new Set(['suspect-product', 'equipment-overdue', 'sensor-expired', 'sensor-use-limit', 'equipment-record-incomplete']);
+
+/** A pyrometry deviation names its furnace or bath; the row links to that equipment's pyrometry status. */
+function pyrometryEquipmentRow(deviation: Deviation): Array<[string, HTMLElement]> {
+  const id = deviation.details?.['equipmentId'];
+  const code = deviation.details?.['equipmentCode'];
+  if (!PYROMETRY_RULES.has(deviation.rule) || typeof id !== 'string') return [];
+  return [['Equipment', link(`/pyrometry/equipment/${id}`, `${typeof code === 'string' ? code : 'equipment'}: pyrometry status`)]];
 }
 
 /** 'longestExcursionS' -> 'Longest excursion (s)' */

@@ -4,7 +4,7 @@ import type { AppContext } from '../app/context.js';
 import type { ViewFactory } from '../app/view.js';
 import { fmtLimits, fmtMin, fmtS, fmtVolPct } from '../lib/format.js';
 import { formatDateTime } from '../lib/time.js';
-import { button, field, h, replace, select } from '../ui/dom.js';
+import { button, field, h, link, replace, select } from '../ui/dom.js';
 import { infoBox, okBox, showError } from '../ui/notice.js';
 import { facts, loading } from '../ui/widgets.js';
 
@@ -67,7 +67,7 @@ function linesTab(ctx: AppContext, body: HTMLElement): void {
       line.equipment.length === 0 ? h('p', { class: 'muted' }, 'No equipment yet.') :
         h('table', { class: 'compact' },
           h('thead', null, h('tr', null, ...['Equipment', 'Kind', 'Channels (code: quantity, role)'].map((x) => h('th', { attrs: { scope: 'col' } }, x)))),
-          h('tbody', null, ...line.equipment.map((e) => h('tr', null, h('td', null, `${e.code} (${e.name})`), h('td', null, e.kind.toLowerCase()),
+          h('tbody', null, ...line.equipment.map((e) => h('tr', null, h('td', null, `${e.code} (${e.name}) `, link(`/pyrometry/equipment/${e.id}`, 'pyrometry')), h('td', null, e.kind.toLowerCase()),
             h('td', null, e.channels.length === 0 ? '—' : e.channels.map((c) => `${c.code}: ${c.quantity}, ${c.role}`).join(' · ')))))));
   }
 
