@@ -306,6 +306,37 @@ export const PROCESS_WINDOW_EXPECTATIONS: Record<PlantedProblem, ExpectedFinding
 };
 
 /**
+ * Predicted deviations (libs/compliance verdict rules, one per batch and rule) each planted problem raises on
+ * its own batch with the demo specs and calibrations of plant.ts; every other batch raises none. The
+ * drift-chart catches are in DRIFT_EXPECTATIONS (filed under the lot where the chart first signals).
+ */
+export const PREDICTED_EXPECTATIONS: Record<PlantedProblem, string[]> = {
+  // Si + Al far below what keeps cementite out; 0.41 Si also raises Ms by ≈ 17 °C (van Bohemen), so the bath's
+  // margin above Ms is no longer certain.
+  'low-silicon': ['predicted-si-al-low', 'predicted-ms-margin'],
+  'thick-section': ['predicted-upper-products'],
+  // Pulled at 35 of 90 min: stage I unfinished, carbon-poor austenite turns to martensite, too hard.
+  'short-hold': ['predicted-incomplete-transformation', 'predicted-fresh-martensite-max', 'predicted-adi-stage-i', 'hold-too-short-predicted', 'predicted-hardness'],
+  'bath-creep': [],
+  'thermocouple-drift': [],
+  'blocky-drift': [],
+};
+
+export interface DriftExpectation {
+  problem: PlantedProblem;
+  product: string;
+  line: string;
+  /** libs/contracts DRIFT_METRIC_NAMES. */
+  metric: string;
+}
+
+/** Drift deviations (rule 'drift') the day must raise: one per chart, on its planted run. */
+export const DRIFT_EXPECTATIONS: readonly DriftExpectation[] = [
+  { problem: 'blocky-drift', product: 'HV-WAVE-25', line: 'HV-L1', metric: 'blocky-austenite-margin' },
+  { problem: 'bath-creep', product: 'HV-TRACK-M24', line: 'HV-L2', metric: 'bath-mean-temp-hold' },
+];
+
+/**
  * The acceptance criteria (libs/contracts AcceptanceCriteria / issue 4 verdicts) each planted problem must
  * break once predictions exist. Rule ids are issue 4's to choose; these name the criterion.
  */
