@@ -196,6 +196,8 @@ const predictedByBatch = new Map<string, string[]>();
 
 beforeAll(async () => {
   const run = await runDemoDay(service);
+  // Charted values, lab comparisons and drift charts follow each recompute through their own queues.
+  await service.settleFollowUps();
   dayLoads = run.schedule.lines.flatMap((l) => l.loads);
   const rows = await prisma.deviation.findMany({
     where: { rule: { notIn: [...PROCESS_WINDOW_RULES] }, status: { not: 'CLEARED' } },

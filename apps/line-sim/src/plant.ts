@@ -329,8 +329,8 @@ const SPRING_CALIBRATION = {
   // Li 1998 is fitted to low-alloy steels (metallurgy.md §3.1: not calibrated for 1.5–2.5 Si carbide-free steels);
   // uncalibrated it predicts ≈ 2.2 h to 95 % at 290 °C for this 0.60C-1.7Si steel. Common practice: thin spring
   // sections of Si-Mn steel austempered at ≈ 280–320 °C in agitated salt transform essentially fully in
-  // 30–60 min. Factor 0.1 → time to 95 % ≈ 10 min nominal, ≈ 25 min at the band's slow end (p95); a heat at the
-  // top of the carbon limit (0.68) is about twice as slow (Li's carbon term).
+  // 30–60 min. Factor 0.1 → time to 95 % ≈ 8–11 min nominal, ≈ 18–22 min at the band's slow end (p95) in the demo
+  // day; a heat at the top of the carbon range is about twice as slow (Li's carbon term).
   bainiteTimeFactor: 0.1,
   bainiteTimeLnSd: 0.25,
   // Li's ferrite/pearlite rates with the Andrews Ae1/Ae3 (large Si terms, §1.1) put 7 % pearlite into a 3.2 mm
@@ -389,7 +389,7 @@ const FASTENER_WINDOW = {
 const FASTENER_CALIBRATION = {
   // Uncalibrated Li gives ≈ 7 min to 95 % at 340 °C for this 0.45C-1.5Si-1.4Mn steel; 1.4 Mn slows bainite and
   // common practice holds such bolts 45–90 min at 320–360 °C with the transformation essentially complete by
-  // ≈ 20–30 min: factor 2.5 → ≈ 22 min nominal.
+  // ≈ 20–30 min: factor 2.5 → ≈ 23 min nominal, ≈ 55 min at the band's slow end.
   bainiteTimeFactor: 2.5,
   bainiteTimeLnSd: 0.35,
   // The plant's sections of M24 bolts show no upper products in the core; its Ø40 trial bars did (the reason a
@@ -430,8 +430,8 @@ const IRON_CHEMISTRY = {
 /** Invented calibration of the Cu-Ni ductile iron (see SPRING_CALIBRATION for what each field is). */
 const IRON_CALIBRATION = {
   // Li's bainite rate at the Voigt–Loper matrix carbon gives ≈ 42 min to 95 % at 375 °C; common practice for
-  // ADI at 360–385 °C: Stage I essentially done within ≈ 30–60 min, holds of 60–120 min. Factor 0.5 → ≈ 21 min
-  // nominal, ≈ 60 min at the band's slow end (the matrix-carbon spread of ±0.05 wt% moves Li's time by ×1.7).
+  // ADI at 360–385 °C: Stage I essentially done within ≈ 30–60 min, holds of 60–120 min. Factor 0.5 → ≈ 20 min
+  // nominal, ≈ 67 min at the band's slow end (the matrix-carbon spread of ±0.05 wt% moves Li's time by ×1.7).
   bainiteTimeFactor: 0.5,
   bainiteTimeLnSd: 0.35,
   // Uncalibrated, Li's steel rates turn the whole 16–22 mm section into ferrite/pearlite before it reaches the

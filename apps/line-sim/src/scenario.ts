@@ -165,21 +165,21 @@ export const DEMO_DAY: ScenarioDef = {
   lines: {
     'HV-L1': [
       clip(HEATS.clipStockA.heatNumber),
-      washer(HEATS.washerStock.heatNumber, 14),
+      washer(HEATS.washerStock.heatNumber, 28),
       clip(HEATS.clipLowSilicon.heatNumber, {
         planted: 'low-silicon',
         story: 'the mill shipped a carbon–manganese heat (0.41 Si) against the Si-Mn order; receipt did not catch it',
       }),
       clip(HEATS.clipStockB.heatNumber),
-      washer(HEATS.washerStock.heatNumber, 15),
-      washer(HEATS.washerStock.heatNumber, 14),
-      washer(HEATS.washerStock.heatNumber, 15),
-      drift(HEATS.washerDrift1.heatNumber, 17),
-      drift(HEATS.washerDrift2.heatNumber, 19),
-      drift(HEATS.washerDrift3.heatNumber, 20),
-      drift(HEATS.washerDrift4.heatNumber, 22),
-      drift(HEATS.washerDrift5.heatNumber, 24),
-      drift(HEATS.washerDrift6.heatNumber, 26),
+      washer(HEATS.washerStock.heatNumber, 29),
+      washer(HEATS.washerStock.heatNumber, 28),
+      washer(HEATS.washerStock.heatNumber, 29),
+      drift(HEATS.washerDrift1.heatNumber, 29.5),
+      drift(HEATS.washerDrift2.heatNumber, 30),
+      drift(HEATS.washerDrift3.heatNumber, 31),
+      drift(HEATS.washerDrift4.heatNumber, 31.5),
+      drift(HEATS.washerDrift5.heatNumber, 32),
+      drift(HEATS.washerDrift6.heatNumber, 32.5),
       clip(HEATS.clipStockB.heatNumber),
       clip(HEATS.clipStockB.heatNumber),
       clip(HEATS.clipStockB.heatNumber, { planted: 'thermocouple-drift', story: tcDriftStory }),
@@ -272,7 +272,7 @@ export const DEMO_DAY: ScenarioDef = {
 
 /** Conforming loads each line repeats, in turn, once the scripted day is over. */
 export const ROUTINE: Record<string, LoadPlan[]> = {
-  'HV-L1': [clip(HEATS.clipStockB.heatNumber), washer(HEATS.washerStock.heatNumber, 15)],
+  'HV-L1': [clip(HEATS.clipStockB.heatNumber), washer(HEATS.washerStock.heatNumber, 29)],
   'HV-L2': [bolt(HEATS.boltStockB.heatNumber)],
   'HV-L3': [gear(HEATS.ironMeltB.heatNumber), bracket(HEATS.ironMeltB.heatNumber)],
 };
