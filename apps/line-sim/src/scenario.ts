@@ -290,7 +290,8 @@ export interface ExpectedFinding {
 
 /**
  * Process-window deviations (checked by the worker today) per planted problem. The metallurgical
- * problems raise none of these: their catch comes with the predictions of issue 4 (ISSUE_4_EXPECTATIONS).
+ * problems raise none of these: their catch is the predictions and drift charts (PREDICTED_EXPECTATIONS,
+ * DRIFT_EXPECTATIONS).
  */
 export const PROCESS_WINDOW_EXPECTATIONS: Record<PlantedProblem, ExpectedFinding[]> = {
   // The salt itself is hot, so both thermocouples leave the band.
@@ -335,16 +336,3 @@ export const DRIFT_EXPECTATIONS: readonly DriftExpectation[] = [
   { problem: 'blocky-drift', product: 'HV-WAVE-25', line: 'HV-L1', metric: 'blocky-austenite-margin' },
   { problem: 'bath-creep', product: 'HV-TRACK-M24', line: 'HV-L2', metric: 'bath-mean-temp-hold' },
 ];
-
-/**
- * The acceptance criteria (libs/contracts AcceptanceCriteria / issue 4 verdicts) each planted problem must
- * break once predictions exist. Rule ids are issue 4's to choose; these name the criterion.
- */
-export const ISSUE_4_EXPECTATIONS: Record<PlantedProblem, string> = {
-  'bath-creep': 'bath temperature during hold charted per lot (and, the hotter the hold, the less film-to-block margin)',
-  'low-silicon': 'minSiPlusAlWtPct: Si + Al below what keeps cementite out (and the chemistry limits at receipt)',
-  'short-hold': 'incomplete transformation / maxFreshMartensiteFraction (ADI: stage I unfinished)',
-  'thick-section': 'upper transformation products during the quench for the batch section (core of a 40 mm bar)',
-  'thermocouple-drift': 'none beyond the process-window deviation',
-  'blocky-drift': 'drift deviation on the blocky-austenite margin chart of HV-WAVE-25 on HV-L1, before any single lot breaks a limit',
-};
