@@ -1,4 +1,4 @@
-import type { ChemistryWtPct, Material, ProductSpecVersionInput, SectionShape } from '@ausline/contracts';
+import type { ChemistryWtPct, DriftChartsSettings, Material, ProductSpecVersionInput, SectionShape } from '@ausline/contracts';
 
 /**
  * The demo plant: Harrow Vale Springs & Fasteners, an invented heat-treat shop with two salt-bath
@@ -100,6 +100,8 @@ export interface ProductDef {
   part: PartDef;
   /** Spec versions in the order they were approved; the last one is in force. */
   versions: ProductSpecVersionInput[];
+  /** Drift-chart settings of the version in force (set while it is a draft, before approval). */
+  driftCharts?: DriftChartsSettings;
 }
 
 export interface DemoUserDef {
@@ -316,19 +318,56 @@ const SPRING_CHEMISTRY = {
 };
 
 /**
- * Metallurgical acceptance values are provisional: they are stored now and judged once predictions land
- * (issue 4), whose owner should check them against the models and tune them so the conforming batches of
- * the demo day conform.
+ * Model calibrations per steel/iron class, as the plant would set them from its own trials (dilatometry of the
+ * product's heats in the bath, metallography of quenched sections, XRD of retained austenite, hardness). THE
+ * NUMBERS ARE INVENTED DEMO VALUES, chosen so that the calibrated model behaves as these steel classes are known
+ * to behave (sources and "common practice" notes beside each); they are not measurements of any steel.
+ * The ln-sd / sd fields are the scatter such trials leave; they replace the generic model errors of the
+ * uncalibrated engine (libs/metallurgy README, Calibration).
+ */
+const SPRING_CALIBRATION = {
+  // Li 1998 is fitted to low-alloy steels (metallurgy.md §3.1: not calibrated for 1.5–2.5 Si carbide-free steels);
+  // uncalibrated it predicts ≈ 2.2 h to 95 % at 290 °C for this 0.60C-1.7Si steel. Common practice: thin spring
+  // sections of Si-Mn steel austempered at ≈ 280–320 °C in agitated salt transform essentially fully in
+  // 30–60 min. Factor 0.1 → time to 95 % ≈ 8–11 min nominal, ≈ 18–22 min at the band's slow end (p95) in the demo
+  // day; a heat at the top of the carbon range is about twice as slow (Li's carbon term).
+  bainiteTimeFactor: 0.1,
+  bainiteTimeLnSd: 0.25,
+  // Li's ferrite/pearlite rates with the Andrews Ae1/Ae3 (large Si terms, §1.1) put 7 % pearlite into a 3.2 mm
+  // wire after an 11 s transfer; common practice: a thin section quenched into agitated salt forms none. Factor
+  // 16 → < 0.1 % (nominal) in wire and strip.
+  ferritePearliteTimeFactor: 16,
+  ferritePearliteTimeLnSd: 0.5,
+  // Measured retained-austenite carbon usually lies between the T0′ and T0 predictions (metallurgy.md §5.1 [M]);
+  // T0 − T0′ ≈ 0.2 wt% here (libs/metallurgy README, ausline t0): the demo plant's "XRD" puts it at T0′ + 0.2.
+  t0PrimeBiasWtPct: 0.2,
+  t0PrimeSdWtPct: 0.05,
+  // The phase-mixture hardness (coefficients from memory, §9.7: carbide-free bainite needs a per-grade fit) reads
+  // ≈ 4 HRC above the plant's hardness tests of this steel: factor 0.9 on HV.
+  hardnessFactor: 0.9,
+  hardnessLnSd: 0.04,
+};
+
+/**
+ * Acceptance values. Each metallurgical one is judged on the prediction's p05–p95 band (libs/compliance
+ * verdicts: conforming = the whole band meets it), so a limit must sit outside the band a good load's calibrated
+ * prediction spans, with margin, or every load is "at risk". The model's own structure sets some of them:
+ * films are taken as ≈ 0.15 × bainite (metallurgy.md §5.2 [M]), so a film/blocky ratio of 0.9 is out of reach
+ * below ≈ 76 % bainite, and the van Bohemen Ms of T0′-enriched austenite (≈ 70 °C here) turns some blocky
+ * austenite to martensite on cooling. Invented demo values.
  */
 const SPRING_ACCEPTANCE = {
-  hardness: { scale: 'HRC' as const, min: 44, max: 50 },
+  hardness: { scale: 'HRC' as const, min: 43, max: 52 },
   minBainiteFraction: 0.45,
-  maxFreshMartensiteFraction: 0.05,
-  maxBlockyAusteniteFraction: 0.12,
-  minFilmToBlockRatio: 0.9,
-  minMsMarginC: 20,
+  maxFreshMartensiteFraction: 0.25,
+  maxBlockyAusteniteFraction: 0.35,
+  minFilmToBlockRatio: 0.12,
+  // The bath must sit above the heat's Ms with 95 % confidence (van Bohemen Ms carries ±15 °C in the ensemble).
+  minMsMarginC: 0,
   minBsMarginC: 50,
   minSiPlusAlWtPct: 1.4,
+  requireCompleteTransformation: true,
+  prediction: { calibration: SPRING_CALIBRATION },
 };
 
 const FASTENER_CHEMISTRY = {
@@ -346,15 +385,38 @@ const FASTENER_WINDOW = {
   ...SIGNAL,
 };
 
+/** Invented calibration of the bolt steel (see SPRING_CALIBRATION for what each field is). */
+const FASTENER_CALIBRATION = {
+  // Uncalibrated Li gives ≈ 7 min to 95 % at 340 °C for this 0.45C-1.5Si-1.4Mn steel; 1.4 Mn slows bainite and
+  // common practice holds such bolts 45–90 min at 320–360 °C with the transformation essentially complete by
+  // ≈ 20–30 min: factor 2.5 → ≈ 23 min nominal, ≈ 55 min at the band's slow end.
+  bainiteTimeFactor: 2.5,
+  bainiteTimeLnSd: 0.35,
+  // The plant's sections of M24 bolts show no upper products in the core; its Ø40 trial bars did (the reason a
+  // 40 mm bar is not run on this recipe). Factor 8 with a tight scatter reproduces both.
+  ferritePearliteTimeFactor: 8,
+  ferritePearliteTimeLnSd: 0.3,
+  t0PrimeBiasWtPct: 0.2,
+  t0PrimeSdWtPct: 0.05,
+  // Predicted ≈ 45 HRC against the plant's ≈ 41 HRC on these bolts: factor 0.82 on HV.
+  hardnessFactor: 0.82,
+  hardnessLnSd: 0.04,
+};
+
 const FASTENER_ACCEPTANCE = {
-  hardness: { scale: 'HRC' as const, min: 38, max: 44 },
-  minBainiteFraction: 0.6,
-  maxFreshMartensiteFraction: 0.05,
-  maxBlockyAusteniteFraction: 0.1,
-  minFilmToBlockRatio: 0.9,
-  minMsMarginC: 25,
+  hardness: { scale: 'HRC' as const, min: 36, max: 47 },
+  minBainiteFraction: 0.5,
+  maxFreshMartensiteFraction: 0.25,
+  maxBlockyAusteniteFraction: 0.25,
+  minFilmToBlockRatio: 0.15,
+  minMsMarginC: 15,
   minBsMarginC: 50,
   minSiPlusAlWtPct: 1.2,
+  // Upper products at the centre of the batch's section: an M24 bolt's band reaches ≈ 1.3 % at its slow end, a
+  // Ø40 bar's ≈ 3 % (its core reaches the salt in ≈ 210 s against ≈ 110 s).
+  maxUpperProductsFraction: 0.02,
+  requireCompleteTransformation: true,
+  prediction: { calibration: FASTENER_CALIBRATION },
 };
 
 const IRON_CHEMISTRY = {
@@ -365,13 +427,51 @@ const IRON_CHEMISTRY = {
   Ni: { maxWtPct: 1.0 },
 };
 
+/** Invented calibration of the Cu-Ni ductile iron (see SPRING_CALIBRATION for what each field is). */
+const IRON_CALIBRATION = {
+  // Li's bainite rate at the Voigt–Loper matrix carbon gives ≈ 42 min to 95 % at 375 °C; common practice for
+  // ADI at 360–385 °C: Stage I essentially done within ≈ 30–60 min, holds of 60–120 min. Factor 0.5 → ≈ 20 min
+  // nominal, ≈ 67 min at the band's slow end (the matrix-carbon spread of ±0.05 wt% moves Li's time by ×1.7).
+  bainiteTimeFactor: 0.5,
+  bainiteTimeLnSd: 0.35,
+  // Uncalibrated, Li's steel rates turn the whole 16–22 mm section into ferrite/pearlite before it reaches the
+  // salt; common practice: Cu-Ni alloyed irons austemper through such sections in agitated salt. Factor 100
+  // (the largest the spec accepts) → ≈ 1 % at the centre.
+  ferritePearliteTimeFactor: 100,
+  ferritePearliteTimeLnSd: 0.5,
+  // Stage I austenite reaches ≈ 1.8–2.2 wt% C (metallurgy.md §4.2 [M]), ≈ 1.0 above the CALPHAD T0′ at 375 °C.
+  t0PrimeBiasWtPct: 1.0,
+  t0PrimeSdWtPct: 0.05,
+  // Predicted ≈ 350 HBW against the plant's ≈ 300 HBW on this grade: factor 0.86.
+  hardnessFactor: 0.86,
+  hardnessLnSd: 0.04,
+};
+
 /** ASTM A897/A897M grade 900/650/09 (metallurgy.md §4.3): Rm ≥ 900, Rp0.2 ≥ 650 MPa, A ≥ 9 %, typical 269–341 HBW. */
+// The grade's tensile properties are released on separately cast test bars (A897); the spec does not judge the
+// predicted tensile (read off the grade table at the predicted hardness, with its own ±8 % ln-sd, its p05 would sit
+// below 900 MPa for every part at the grade's typical hardness).
 const ADI_900_ACCEPTANCE = {
   hardness: { scale: 'HBW' as const, min: 269, max: 341 },
-  tensile: { minTensileMPa: 900, minYieldMPa: 650, minElongationPct: 9 },
-  maxFreshMartensiteFraction: 0.03,
+  maxFreshMartensiteFraction: 0.05,
   minMsMarginC: 50,
+  requireCompleteTransformation: true,
+  // Stage I finished: ≤ 5 % carbon-poor austenite left to turn to martensite (the plant's limit; §4.2 says ≈ 3 %).
+  // Stage II onset from the plant's trial holds checked by XRD (invented): retained austenite starts to fall after
+  // ≈ 6 h at 375 °C; the verdict scales it to the logged temperature (Arrhenius) with its ln-sd 0.5.
+  adiProcessWindow: { stageIMaxMartensiteFraction: 0.05, stageIIOnsetMin: 360, stageIIOnsetRefTempC: 375 },
+  prediction: { calibration: IRON_CALIBRATION },
 };
+
+/**
+ * Drift charts with limits from a capability study (invented): with only a day of lots the default Phase I (the
+ * first 25 lots) would leave the charts without limits. Centre = the chart's value on the plant's routine lots
+ * (the calibrated prediction for the routine washer heat; the bath's logged mean over a hold, setpoint plus the
+ * immersion rise); σ = the lot-to-lot scatter the study saw (heat-to-heat carbon ±0.01 wt% moves the predicted
+ * blocky austenite by ≈ 0.004; the bath mean over a hold scatters by ≈ 0.5 °C).
+ */
+const WASHER_DRIFT: DriftChartsSettings = { metrics: { 'blocky-austenite-margin': { limits: { centre: 0.153, sigma: 0.004 } } } };
+const BOLT_DRIFT: DriftChartsSettings = { metrics: { 'bath-mean-temp-hold': { limits: { centre: 340.5, sigma: 0.5 } } } };
 
 export const PRODUCTS: readonly ProductDef[] = [
   {
@@ -413,6 +513,7 @@ export const PRODUCTS: readonly ProductDef[] = [
     description: 'Wave spring washer from 2.5 mm Si-Mn spring strip, austempered to lower bainite',
     line: 'HV-L1',
     part: { name: 'wave washer', sectionShape: 'PLATE', sectionSizeMm: 2.5 },
+    driftCharts: WASHER_DRIFT,
     versions: [
       {
         chemistryLimits: SPRING_CHEMISTRY,
@@ -422,7 +523,7 @@ export const PRODUCTS: readonly ProductDef[] = [
           bath: { minTempC: 282, maxTempC: 298, maxExcursionS: 180, minHoldMin: 40, maxHoldMin: 80 },
           ...SIGNAL,
         },
-        acceptanceCriteria: { ...SPRING_ACCEPTANCE, hardness: { scale: 'HRC', min: 45, max: 51 } },
+        acceptanceCriteria: { ...SPRING_ACCEPTANCE, hardness: { scale: 'HRC', min: 42, max: 53 } },
       },
     ],
   },
@@ -433,6 +534,7 @@ export const PRODUCTS: readonly ProductDef[] = [
     description: 'Rail track bolt M24 × 140, 1.5Si-1.4Mn bolt steel, austempered',
     line: 'HV-L2',
     part: { name: 'track bolt M24', sectionShape: 'CYLINDER', sectionSizeMm: 24 },
+    driftCharts: BOLT_DRIFT,
     versions: [{ chemistryLimits: FASTENER_CHEMISTRY, processWindow: FASTENER_WINDOW, acceptanceCriteria: FASTENER_ACCEPTANCE }],
   },
   {

@@ -206,6 +206,10 @@ async function ensureSpecs(admin: ApiClient, passwords: Record<string, string>, 
     for (const version of toAdd) {
       const same = stored.find((v) => contentOf(v) === contentOf(version) && v.status !== 'SUPERSEDED');
       const row = same ?? (await quality.post<SpecVersionRow>(`/v1/specs/${specId}/versions`, version, { idempotencyKey: `demo-setup.${product.code}.${hashString(contentOf(version)).toString(16)}` }));
+      // Drift-chart settings can change on a draft only: set them before the version in force is approved.
+      if (product.driftCharts && version === product.versions[product.versions.length - 1] && row.status === 'DRAFT') {
+        await quality.call('PUT', `/v1/specs/${specId}/versions/${row.version}/drift-charts`, product.driftCharts);
+      }
       await quality.post(`/v1/specs/${specId}/versions/${row.version}/approve`, {});
     }
     changed.push(product.code);

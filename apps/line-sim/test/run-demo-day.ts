@@ -1,7 +1,7 @@
 /**
  * Plays the demo day (or its first `hours`) at full speed against a Service from service-harness.ts and
- * waits until the worker has recomputed everything. Shared by tests/demo-day.test.ts and, once issue 4
- * lands, tests/demo-metallurgy.test.ts.
+ * waits until the worker has recomputed everything. Shared by tests/demo-day.test.ts and
+ * tests/demo-metallurgy.test.ts.
  */
 import { ALL_HEATS } from '../src/plant.js';
 import { DEMO_DAY, ROUTINE } from '../src/scenario.js';

@@ -11,7 +11,7 @@
  */
 import { afterAll } from 'vitest';
 import { Queue } from 'bullmq';
-import { RECOMPUTE_QUEUE, loadConfig, type AppConfig } from '@ausline/contracts';
+import { DRIFT_QUEUE, OUTCOME_QUEUE, RECOMPUTE_QUEUE, loadConfig, type AppConfig } from '@ausline/contracts';
 import { createApiApp, type ApiHandle } from '../../api/src/create-api-app.js';
 import { createAdmin } from '../../api/src/cli/create-admin.js';
 import { startWorker, type RunningWorker } from '../../worker/src/start-worker.js';
@@ -34,6 +34,9 @@ export interface Service {
   startApi(): Promise<void>;
   /** Waits until the recompute queue is empty and no batch is stale (several quiet checks in a row). */
   settle(timeoutMs?: number): Promise<void>;
+  /** settle(), then also the follow-up queues (outcome: charted values and lab comparisons; drift: the charts)
+   *  quiet for a few seconds in a row, longer than the worker's sweep interval. */
+  settleFollowUps(timeoutMs?: number): Promise<void>;
 }
 
 export async function startService(label: string, overrides: Record<string, string> = {}): Promise<Service> {
@@ -47,6 +50,8 @@ export async function startService(label: string, overrides: Record<string, stri
   const url = api.url;
   const worker: RunningWorker = await startWorker(config, { metricsPort: null, aliveFile: null, reconcile: true, logger: new WorkerLogger('silent') });
   const queue = new Queue(RECOMPUTE_QUEUE, { connection: { url: TEST_REDIS_URL }, prefix });
+  const followUps = [OUTCOME_QUEUE, DRIFT_QUEUE].map((name) => new Queue(name, { connection: { url: TEST_REDIS_URL }, prefix }));
+  const busyIn = async (q: Queue) => Object.values(await q.getJobCounts('active', 'waiting', 'delayed', 'prioritized', 'waiting-children')).reduce((a, b) => a + b, 0);
 
   const admin = await createAdmin(db.prisma, { email: FIRST_ADMIN.email, displayName: FIRST_ADMIN.displayName });
   if (!admin.ok) throw new Error(`create-admin refused: ${admin.reason}`);
@@ -56,10 +61,11 @@ export async function startService(label: string, overrides: Record<string, stri
     await api?.close();
     await worker.close();
     await queue.close();
+    for (const q of followUps) await q.close();
     await deleteRedisKeys(prefix);
   });
 
-  return {
+  const service: Service = {
     db,
     config,
     url,
@@ -83,5 +89,19 @@ export async function startService(label: string, overrides: Record<string, stri
         await new Promise((r) => setTimeout(r, 250));
       }
     },
+    async settleFollowUps(timeoutMs = 300_000) {
+      const deadline = Date.now() + timeoutMs;
+      await service.settle(timeoutMs);
+      let quietSince = Date.now();
+      const quietMs = Math.max(3_000, 2 * config.RECONCILE_INTERVAL_S * 1000);
+      while (Date.now() - quietSince < quietMs) {
+        if (Date.now() > deadline) throw new Error('the outcome and drift queues did not settle in time');
+        let busy = await busyIn(queue);
+        for (const q of followUps) busy += await busyIn(q);
+        if (busy > 0) quietSince = Date.now();
+        await new Promise((r) => setTimeout(r, 250));
+      }
+    },
   };
+  return service;
 }

@@ -153,6 +153,13 @@ export const PredictionSettings = z.strictObject({
       bainiteTimeFactor: z.number().finite().positive().max(100).optional(),
       ferritePearliteTimeFactor: z.number().finite().positive().max(100).optional(),
       t0PrimeBiasWtPct: z.number().finite().min(-1).max(1).optional(),
+      /** Scatter left by that calibration (replaces the generic model error; libs/metallurgy README, Calibration). */
+      bainiteTimeLnSd: z.number().finite().min(0).max(3).optional(),
+      ferritePearliteTimeLnSd: z.number().finite().min(0).max(3).optional(),
+      t0PrimeSdWtPct: z.number().finite().min(0).max(0.5).optional(),
+      /** Per-grade fit of the hardness model (factor on the predicted HV) and its scatter (ln-sd). */
+      hardnessFactor: z.number().finite().min(0.5).max(2).optional(),
+      hardnessLnSd: z.number().finite().min(0).max(1).optional(),
     })
     .optional(),
 });

@@ -77,6 +77,8 @@ export interface MemberArrays {
   descriptionMix: Float64Array;
   /** Stored energy / 400 J/mol. */
   storedEnergyScale: Float64Array;
+  /** Calibrated T0′ error, wt% (calibration.t0PrimeSdWtPct; 0 without it). */
+  t0PrimeOffsetWtPct: Float64Array;
   carbonInFerriteWtPct: Float64Array;
   /** z of the bath heat-transfer coefficient (ln h = ln h0 + z·σ). */
   heatTransferZ: Float64Array;
@@ -172,6 +174,7 @@ function buildModel(setup: BatchSetup, key: string): BatchModel {
     bainiteStartC: arr(),
     descriptionMix: arr(),
     storedEnergyScale: arr(),
+    t0PrimeOffsetWtPct: arr(),
     carbonInFerriteWtPct: arr(),
     heatTransferZ: arr(),
     ferriteLnFactor: arr(),
@@ -208,6 +211,12 @@ function buildModel(setup: BatchSetup, key: string): BatchModel {
   }
   const z = (dim: number, member: number): number => zCols[dim][member];
   const fpCalibration = Math.log(setup.calibration?.ferritePearliteTimeFactor ?? 1);
+  // A product's own calibration replaces the generic model errors by the scatter it left (setup.ts, Calibration).
+  const bainiteLnSd = setup.calibration?.bainiteTimeLnSd ?? MODEL_ERRORS.bainiteLnTimeSd[setup.material];
+  const fpLnSd = setup.calibration?.ferritePearliteTimeLnSd ?? MODEL_ERRORS.ferritePearliteLnTimeSd;
+  const t0PrimeSd = setup.calibration?.t0PrimeSdWtPct;
+  const hardnessLnBias = Math.log(setup.calibration?.hardnessFactor ?? 1);
+  const hardnessLnSd = setup.calibration?.hardnessLnSd ?? MODEL_ERRORS.hardnessLnSd[mat];
   // Scratch chemistries, rewritten per member (no object per member).
   const bulk: ChemistryWtPct = { ...bulkChem };
   const eff: ChemistryWtPct = { ...chem };
@@ -232,18 +241,22 @@ function buildModel(setup: BatchSetup, key: string): BatchModel {
     m.siWtPct[k] = bulk.Si ?? 0;
     m.mnWtPct[k] = bulk.Mn ?? 0;
     m.thermocoupleOffsetC[k] = thermocoupleSd * z(D, k);
-    const lnTimeError = MODEL_ERRORS.bainiteLnTimeSd[mat] * z(D + 1, k);
+    const lnTimeError = bainiteLnSd * z(D + 1, k);
     m.bainitePrefactor[k] = grainTerm / (liBainiteFactor(eff) * timeFactor * Math.exp(lnTimeError));
     m.bainiteStartC[k] = liBainiteStartC(eff) + MODEL_ERRORS.liBainiteStartSdC * z(D + 2, k);
-    m.descriptionMix[k] = k === 0 ? 0 : u(D + 3, k);
+    m.descriptionMix[k] = k === 0 || t0PrimeSd !== undefined ? 0 : u(D + 3, k);
     m.storedEnergyScale[k] =
-      Math.max(0, MODEL_ERRORS.storedEnergyMeanJPerMol + MODEL_ERRORS.storedEnergySdJPerMol * z(D + 4, k)) / MODEL_ERRORS.storedEnergyMeanJPerMol;
+      t0PrimeSd !== undefined
+        ? 1
+        : Math.max(0, MODEL_ERRORS.storedEnergyMeanJPerMol + MODEL_ERRORS.storedEnergySdJPerMol * z(D + 4, k)) / MODEL_ERRORS.storedEnergyMeanJPerMol;
+    // dim D + 13 was reserved; the calibrated T0′ error uses it (the other quantities keep their strata).
+    m.t0PrimeOffsetWtPct[k] = t0PrimeSd !== undefined ? t0PrimeSd * z(D + 13, k) : 0;
     m.carbonInFerriteWtPct[k] = Math.max(
       0.002,
       MODEL_ERRORS.carbonInBainiticFerriteMeanWtPct + MODEL_ERRORS.carbonInBainiticFerriteSdWtPct * z(D + 5, k),
     );
     m.heatTransferZ[k] = z(D + 6, k);
-    const fpError = MODEL_ERRORS.ferritePearliteLnTimeSd * z(D + 7, k) + fpCalibration;
+    const fpError = fpLnSd * z(D + 7, k) + fpCalibration;
     m.ferriteLnFactor[k] = Math.log(nominalFc / liFerriteFactor(eff)) - fpError;
     m.pearliteLnFactor[k] = Math.log(nominalPc / liPearliteFactor(eff)) - fpError;
     const a1 = ae1C(eff);
@@ -258,9 +271,8 @@ function buildModel(setup: BatchSetup, key: string): BatchModel {
     m.msBulkC[k] = msBulk + msError;
     m.alphaSubstitutionalPerK[k] = vanBohemenAlphaSubstitutionalPerK(eff);
     m.alphaFactor[k] = Math.max(0.5, 1 + MODEL_ERRORS.alphaRelativeSd * z(D + 10, k));
-    m.hardnessLnError[k] = MODEL_ERRORS.hardnessLnSd[mat] * z(D + 11, k);
+    m.hardnessLnError[k] = hardnessLnBias + hardnessLnSd * z(D + 11, k);
     m.tensileLnError[k] = MODEL_ERRORS.tensileLnSd[mat] * z(D + 12, k);
-    // dim D + 13 is reserved (kept so adding a quantity later does not reshuffle the others' strata).
   }
 
   return {

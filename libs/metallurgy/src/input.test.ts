@@ -50,6 +50,9 @@ describe('predict input validation', () => {
     [{ ...good, bathTemp: 300 }, 'bathTemp', /unknown field/],
     [{ ...good, calibration: { bands: { hardness: { bias: 1 } } } }, 'calibration.bands.hardness', /unknown field/],
     [{ ...good, transferS: undefined }, 'transferS', /required/],
+    [{ ...good, calibration: { bainiteTimeLnSd: -0.1 } }, 'calibration.bainiteTimeLnSd', /at least 0/],
+    [{ ...good, calibration: { t0PrimeSdWtPct: 0.6 } }, 'calibration.t0PrimeSdWtPct', /at most 0.5/],
+    [{ ...good, calibration: { hardnessFactor: 0.2 } }, 'calibration.hardnessFactor', /at least 0.5/],
   ])('rejects %j at %s', (raw, path, message) => {
     const issue = firstIssue(raw);
     expect(issue.path).toBe(path);

@@ -238,7 +238,7 @@ function parseUncertainty(c: Checker, raw: unknown): UncertaintySettings | undef
 }
 
 function parseCalibration(c: Checker, raw: unknown): Calibration | undefined {
-  const o = c.object(raw, 'calibration', ['bainiteTimeFactor', 'ferritePearliteTimeFactor', 't0PrimeBiasWtPct', 'bands']);
+  const o = c.object(raw, 'calibration', ['bainiteTimeFactor', 'ferritePearliteTimeFactor', 't0PrimeBiasWtPct', 'bainiteTimeLnSd', 'ferritePearliteTimeLnSd', 't0PrimeSdWtPct', 'hardnessFactor', 'hardnessLnSd', 'bands']);
   if (!o) return undefined;
   const out: Calibration = {};
   const f = c.number(o, 'bainiteTimeFactor', 'calibration', { min: 0, max: 1000, exclusiveMin: true, optional: true });
@@ -247,6 +247,16 @@ function parseCalibration(c: Checker, raw: unknown): Calibration | undefined {
   if (fp !== undefined) out.ferritePearliteTimeFactor = fp;
   const b = c.number(o, 't0PrimeBiasWtPct', 'calibration', { min: -1, max: 1, optional: true });
   if (b !== undefined) out.t0PrimeBiasWtPct = b;
+  const bsd = c.number(o, 'bainiteTimeLnSd', 'calibration', { min: 0, max: 3, optional: true });
+  if (bsd !== undefined) out.bainiteTimeLnSd = bsd;
+  const fsd = c.number(o, 'ferritePearliteTimeLnSd', 'calibration', { min: 0, max: 3, optional: true });
+  if (fsd !== undefined) out.ferritePearliteTimeLnSd = fsd;
+  const tsd = c.number(o, 't0PrimeSdWtPct', 'calibration', { min: 0, max: 0.5, optional: true });
+  if (tsd !== undefined) out.t0PrimeSdWtPct = tsd;
+  const hf = c.number(o, 'hardnessFactor', 'calibration', { min: 0.5, max: 2, optional: true });
+  if (hf !== undefined) out.hardnessFactor = hf;
+  const hsd = c.number(o, 'hardnessLnSd', 'calibration', { min: 0, max: 1, optional: true });
+  if (hsd !== undefined) out.hardnessLnSd = hsd;
   if (o.bands !== undefined) {
     const bands = c.object(o.bands, 'calibration.bands', BAND_QUANTITIES);
     if (bands) {

@@ -132,6 +132,28 @@ describe('predict', () => {
     expect(width(spread)).toBeGreaterThan(width(out));
   });
 
+  it("calibration: the product's own scatter replaces the generic model errors; the nominal is unchanged", () => {
+    // Our construction (setup.ts Calibration): a calibrated spread narrows the band it replaces, leaves the point values.
+    const width = (o: PredictOutput, q: keyof PredictOutput['bands']) => (o.bands[q].p95 as number) - (o.bands[q].p05 as number);
+    const tight = predict(steel({ calibration: { bainiteTimeLnSd: 0.1, ferritePearliteTimeLnSd: 0.1, t0PrimeSdWtPct: 0.01, hardnessLnSd: 0.01 } }));
+    expect(tight.bainite.timeTo95PctS).toBe(out.bainite.timeTo95PctS);
+    expect(tight.quench.upperProductsFraction).toBe(out.quench.upperProductsFraction);
+    expect(tight.final).toEqual(out.final);
+    expect(width(tight, 'timeTo95PctS')).toBeLessThan(0.6 * width(out, 'timeTo95PctS'));
+    expect(width(tight, 'upperProductsFraction')).toBeLessThan(0.5 * width(out, 'upperProductsFraction'));
+    expect(width(tight, 'ceilingFraction')).toBeLessThan(0.5 * width(out, 'ceilingFraction'));
+    expect(width(tight, 'hardnessHV')).toBeLessThan(0.6 * width(out, 'hardnessHV'));
+    // the calibrated T0′ is the CALPHAD one (plus bias): the band is centred on the nominal, not pulled down by 'alt'
+    expect(tight.bands.t0PrimeCarbonWtPct.p50).toBeCloseTo(out.t0.t0PrimeCarbonWtPct, 1);
+    // a hardness factor scales the nominal hardness (and the tensile estimate with it)
+    const one = { samples: 0, seed: 1 };
+    const plain = predict(steel({ uncertainty: one }));
+    const softer = predict(steel({ uncertainty: one, calibration: { hardnessFactor: 0.9 } }));
+    expect(softer.properties.hardnessHV.p50).toBeCloseTo(0.9 * (plain.properties.hardnessHV.p50 as number), 0);
+    expect(softer.properties.tensileMPa.p50).toBeCloseTo(0.9 * (plain.properties.tensileMPa.p50 as number), -1);
+    expect(softer.warnings.join('\n')).toMatch(/hardness is scaled by the per-product calibration factor 0.9/);
+  });
+
   it('finalizing a state advanced in slices gives the same prediction as predict()', () => {
     const input = steel();
     const { bath: log, ...setup } = input;

@@ -276,7 +276,7 @@ export function memberT0PrimeWtPct(model: BatchModel, table: T0Table, k: number,
   const tp = table.t0PrimeCalphad[j] + f * (table.t0PrimeCalphad[j1] - table.t0PrimeCalphad[j]);
   const alt = table.t0PrimeAlt[j] + f * (table.t0PrimeAlt[j1] - table.t0PrimeAlt[j]);
   const t0 = table.t0Calphad[j] + f * (table.t0Calphad[j1] - table.t0Calphad[j]);
-  let c = tp + m.descriptionMix[k] * (alt - tp) + (m.storedEnergyScale[k] - 1) * (tp - t0) + (model.setup.calibration?.t0PrimeBiasWtPct ?? 0);
+  let c = tp + m.descriptionMix[k] * (alt - tp) + (m.storedEnergyScale[k] - 1) * (tp - t0) + (model.setup.calibration?.t0PrimeBiasWtPct ?? 0) + m.t0PrimeOffsetWtPct[k];
   for (let e = 0; e < table.sensitivity.length; e++) {
     const col = table.sensitivity[e];
     c += (col[j] + f * (col[j1] - col[j])) * m.t0ElementDelta[e][k];
@@ -503,6 +503,9 @@ function collectWarnings(w: string[], c: WarningContext): void {
   }
   if (c.t0Bias !== 0) w.push(`t0: T0′ includes a per-product calibration bias of ${c.t0Bias} wt%`);
   if (setup.calibration?.bainiteTimeFactor !== undefined) w.push(`bainite: Li bainite times are scaled by the per-product calibration factor ${setup.calibration.bainiteTimeFactor}`);
+  if (setup.calibration?.hardnessFactor !== undefined) w.push(`properties: predicted hardness is scaled by the per-product calibration factor ${setup.calibration.hardnessFactor}`);
+  const spreads = (['bainiteTimeLnSd', 'ferritePearliteTimeLnSd', 't0PrimeSdWtPct', 'hardnessLnSd'] as const).filter((q) => setup.calibration?.[q] !== undefined);
+  if (spreads.length) w.push(`bands: the per-product calibration's own scatter replaces the default model error for ${spreads.join(', ')}`);
   if (setup.calibration?.ferritePearliteTimeFactor !== undefined) {
     w.push(`quench: Li ferrite/pearlite times are scaled by the per-product calibration factor ${setup.calibration.ferritePearliteTimeFactor}`);
   }

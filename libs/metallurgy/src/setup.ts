@@ -38,6 +38,14 @@ export type BandQuantity = (typeof BAND_QUANTITIES)[number];
  * - ferritePearliteTimeFactor multiplies Li's ferrite and pearlite τ̂ on the quench path (e.g. fitted to
  *   metallography of sections that did or did not show upper products).
  * - t0PrimeBiasWtPct is added to the T0′ carbon (§9.1: per-grade calibration to XRD retained-austenite carbon).
+ * - bainiteTimeLnSd, ferritePearliteTimeLnSd, t0PrimeSdWtPct: the scatter left after such a calibration (the
+ *   product's own trials), used in place of the generic model error of that quantity: the ln-sd of the bainite
+ *   time (default MODEL_ERRORS.bainiteLnTimeSd), of the ferrite/pearlite times (default 1.0), and a normal sd of
+ *   T0′ that replaces the spread between the two T0′ descriptions and of the stored energy (the calibrated T0′ is
+ *   the CALPHAD one plus the bias; the XRD data fix it, not the choice of description).
+ * - hardnessFactor multiplies the predicted hardness of every member (a per-grade fit of the phase-mixture model to
+ *   the product's own hardness, §9.7), and hardnessLnSd replaces its ln-sd (default MODEL_ERRORS.hardnessLnSd); the
+ *   tensile estimate follows the hardness.
  * - bands: for any banded quantity, a bias added to every ensemble member and an extra normal spread (sd, same
  *   unit), drawn from the batch's seed, so calibrated bands stay reproducible.
  */
@@ -45,6 +53,11 @@ export interface Calibration {
   bainiteTimeFactor?: number;
   ferritePearliteTimeFactor?: number;
   t0PrimeBiasWtPct?: number;
+  bainiteTimeLnSd?: number;
+  ferritePearliteTimeLnSd?: number;
+  t0PrimeSdWtPct?: number;
+  hardnessFactor?: number;
+  hardnessLnSd?: number;
   bands?: Partial<Record<BandQuantity, { bias?: number; sd?: number }>>;
 }
 

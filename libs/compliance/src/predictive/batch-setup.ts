@@ -129,6 +129,11 @@ export function buildBatchSetup(r: SetupRecords): BuiltSetup {
   if (settings.calibration?.bainiteTimeFactor !== undefined) calibration.bainiteTimeFactor = settings.calibration.bainiteTimeFactor;
   if (settings.calibration?.ferritePearliteTimeFactor !== undefined) calibration.ferritePearliteTimeFactor = settings.calibration.ferritePearliteTimeFactor;
   if (settings.calibration?.t0PrimeBiasWtPct !== undefined) calibration.t0PrimeBiasWtPct = settings.calibration.t0PrimeBiasWtPct;
+  if (settings.calibration?.bainiteTimeLnSd !== undefined) calibration.bainiteTimeLnSd = settings.calibration.bainiteTimeLnSd;
+  if (settings.calibration?.ferritePearliteTimeLnSd !== undefined) calibration.ferritePearliteTimeLnSd = settings.calibration.ferritePearliteTimeLnSd;
+  if (settings.calibration?.t0PrimeSdWtPct !== undefined) calibration.t0PrimeSdWtPct = settings.calibration.t0PrimeSdWtPct;
+  if (settings.calibration?.hardnessFactor !== undefined) calibration.hardnessFactor = settings.calibration.hardnessFactor;
+  if (settings.calibration?.hardnessLnSd !== undefined) calibration.hardnessLnSd = settings.calibration.hardnessLnSd;
   if (r.bandCalibration && Object.keys(r.bandCalibration).length) calibration.bands = r.bandCalibration;
 
   const setup: BatchSetup = {

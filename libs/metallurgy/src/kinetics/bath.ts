@@ -254,9 +254,10 @@ function leverTable(model: BatchModel, table: T0Table): Float64Array {
     const sb = m.carbonInFerriteWtPct[k];
     const mix = m.descriptionMix[k];
     const es = m.storedEnergyScale[k] - 1;
+    const off = m.t0PrimeOffsetWtPct[k];
     for (let j = 0; j < len; j++) {
       const tp = table.t0PrimeCalphad[j];
-      let c = tp + mix * (table.t0PrimeAlt[j] - tp) + es * (tp - table.t0Calphad[j]) + bias;
+      let c = tp + mix * (table.t0PrimeAlt[j] - tp) + es * (tp - table.t0Calphad[j]) + bias + off;
       for (let e = 0; e < E; e++) c += table.sensitivity[e][j] * m.t0ElementDelta[e][k];
       const lever = c > cBar ? (c - cBar) / (c - sb) : 0;
       out[k * len + j] = lever > 1 ? 1 : lever;
