@@ -17,9 +17,15 @@ describe('README', () => {
     expect(readFileSync(new URL('../../.ci/run', import.meta.url), 'utf8')).toMatch(/npm test/);
   });
 
-  it('links only files that exist', () => {
+  it('links only files that exist, pictures of the tour included (PNG, as the browser tests save them)', () => {
     const links = [...readme.matchAll(/\]\(([^)#\s]+)\)/g)].map((m) => m[1]!).filter((l) => !/^[a-z]+:/.test(l));
     expect(links.length).toBeGreaterThan(5);
     for (const link of links) expect(existsSync(new URL(`../../${link}`, import.meta.url)), link).toBe(true);
+    const pictures = [...readme.matchAll(/!\[[^\]]+\]\(([^)]+)\)/g)].map((m) => m[1]!);
+    expect(pictures.length).toBeGreaterThanOrEqual(4);
+    for (const picture of pictures) {
+      const bytes = readFileSync(new URL(`../../${picture}`, import.meta.url));
+      expect(bytes.subarray(1, 4).toString(), picture).toBe('PNG');
+    }
   });
 });

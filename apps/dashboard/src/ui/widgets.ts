@@ -10,6 +10,17 @@ export function verdictBadge(level: VerdictLevel | null, emptyText = 'No predict
   return h('span', { class: `badge ${level}`, dataset: { verdict: level } }, h('span', { attrs: { 'aria-hidden': 'true' } }, `${icon} `), VERDICT_TEXT[level]);
 }
 
+/** Deviations still waiting for people: open or acknowledged (not yet dispositioned, closed or cleared). */
+export function isOpenDeviation(d: { status: DeviationStatus }): boolean {
+  return d.status === 'OPEN' || d.status === 'ACKNOWLEDGED';
+}
+
+export function worstSeverity(list: ReadonlyArray<{ severity: DeviationSeverity }>): 'critical' | 'major' | 'minor' {
+  if (list.some((d) => d.severity === 'CRITICAL')) return 'critical';
+  if (list.some((d) => d.severity === 'MAJOR')) return 'major';
+  return 'minor';
+}
+
 export function severityChip(severity: DeviationSeverity): HTMLElement {
   return h('span', { class: `sev ${severity.toLowerCase()}` }, severity.toLowerCase());
 }

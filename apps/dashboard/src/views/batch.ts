@@ -15,7 +15,7 @@ import { deviationPanel } from '../ui/deviation-panel.js';
 import { h, link, replace } from '../ui/dom.js';
 import { bathSafetyNotes, infoBox, releaseCaution, showError } from '../ui/notice.js';
 import { rangeBar } from '../ui/range-bar.js';
-import { card, facts, loading, severityChip, statusChip, verdictBadge } from '../ui/widgets.js';
+import { card, facts, isOpenDeviation, loading, severityChip, statusChip, verdictBadge, worstSeverity } from '../ui/widgets.js';
 
 /**
  * One load: what the furnace and bath did against the spec, what the model predicts (bainite against
@@ -100,11 +100,19 @@ export const batchView: ViewFactory = (ctx, route) => {
     const now = Date.now();
     const s = batchState(d, w, now);
 
+    // The badge is the model's verdict on the acceptance criteria; the process record (bath band, hold,
+    // sensors) speaks through deviations. Show both side by side, so "conforming" is never read alone.
+    const openDevs = d.deviations.filter(isOpenDeviation);
     replace(
       head,
       h('h1', null, `Load ${d.code}`),
       h('span', { class: 'step' }, fmtBatchStatus(d.status)),
+      h('span', { class: 'muted small' }, 'Prediction'),
       verdictBadge(s.verdict),
+      openDevs.length > 0
+        ? h('button', { class: `dev-count ${worstSeverity(openDevs)}`, attrs: { type: 'button', title: 'Go to the deviations of this load' }, dataset: { openDeviations: String(openDevs.length) }, on: { click: () => devCard.scrollIntoView({ behavior: 'smooth' }) } },
+            `${openDevs.length} open deviation${openDevs.length === 1 ? '' : 's'}`)
+        : h('span', { class: 'dev-count none', dataset: { openDeviations: '0' } }, 'No open deviations'),
       h('span', { class: 'muted small', attrs: { 'aria-live': 'polite' } }, `Read at ${formatClock(now, zone, true)} · times in ${zone}`),
       link(`/batches/${d.id}/certificate`, 'Certificate record'),
       link(`/drift?specId=${d.spec.id}&lineId=${d.line.id}`, 'Drift of this product'),

@@ -5,7 +5,7 @@ import { fmtBatchStatus, fmtC, fmtLimits, fmtRule, fmtVolPct } from '../lib/form
 import { formatClock, formatDateTime, formatDuration } from '../lib/time.js';
 import { h, link, replace } from '../ui/dom.js';
 import { bathSafetyNotes, showError } from '../ui/notice.js';
-import { gauge, loading, severityChip, verdictBadge } from '../ui/widgets.js';
+import { gauge, loading, severityChip, verdictBadge, worstSeverity } from '../ui/widgets.js';
 
 /**
  * The live board: one card per line with every load on it now (in furnace, in transfer, in bath), its
@@ -314,9 +314,4 @@ function sortActive(list: BatchListItem[]): BatchListItem[] {
   return list.slice().sort((a, b) => (rank[a.status] ?? 9) - (rank[b.status] ?? 9));
 }
 
-function worstSeverity(list: DeviationListItem[]): string {
-  if (list.some((d) => d.severity === 'CRITICAL')) return 'critical';
-  if (list.some((d) => d.severity === 'MAJOR')) return 'major';
-  return 'minor';
-}
 
