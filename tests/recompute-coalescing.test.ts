@@ -6,7 +6,8 @@
  *    active and one after it — and the final prediction covers the last reading posted;
  *  - the same with the worker SIGKILLed while that recompute is active and the burst is held back for after it: the
  *    job is run again by a new worker, the follow-up after it, and the last reading still reaches the prediction.
- * The posts are 300 ms apart, longer than the old 250 ms debounce, which ran a recompute per post in this situation.
+ * The posts are 300 ms apart, longer than the old 250 ms debounce (ttl, extend, replace): with those options the
+ * first test found 7 jobs of the batch waiting behind the held one after the 8 posts.
  * Every plant, heat and reading is invented (tests/predictions-support.ts).
  */
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
