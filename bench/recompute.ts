@@ -28,8 +28,11 @@
  */
 import { randomBytes } from 'node:crypto';
 import pg from 'pg';
+import { Queue } from 'bullmq';
+import { RECOMPUTE_QUEUE } from '@ausline/contracts';
 import { advanceBath, clearModelCache, createBathState, finalizeBatch, type BathState, type BatchSetup } from '@ausline/metallurgy';
 import {
+  BENCH_REDIS_URL,
   benchPrisma,
   createBenchDatabase,
   createBenchPlant,
@@ -266,10 +269,52 @@ async function workerMetrics(port: number): Promise<WorkerMetrics> {
   return { jobs, seconds };
 }
 
+/** The recompute queue during a phase: the most jobs seen waiting (or delayed) and active at once, sampled every 250 ms. */
+interface QueueDepth {
+  maxWaiting: number;
+  maxActive: number;
+  samples: number;
+}
+
+function sampleQueue(queue: Queue) {
+  let stop = false;
+  const depth: QueueDepth = { maxWaiting: 0, maxActive: 0, samples: 0 };
+  const run = (async () => {
+    while (!stop) {
+      const c = await queue.getJobCounts('waiting', 'delayed', 'active').catch(() => null);
+      if (c) {
+        depth.maxWaiting = Math.max(depth.maxWaiting, (c.waiting ?? 0) + (c.delayed ?? 0));
+        depth.maxActive = Math.max(depth.maxActive, c.active ?? 0);
+        depth.samples++;
+      }
+      await sleep(250);
+    }
+  })();
+  return {
+    async stop(): Promise<QueueDepth> {
+      stop = true;
+      await run;
+      return depth;
+    },
+  };
+}
+
+/** Recompute jobs that finished in [fromMs, toMs) (the queue keeps the last 1,000), and how many left their prediction to a successor. */
+async function finishedJobs(queue: Queue, fromMs: number, toMs: number): Promise<{ jobs: number; predictionDeferred: number; batches: number }> {
+  const done = (await queue.getJobs(['completed'], 0, 999)).filter((j) => j.finishedOn !== undefined && j.finishedOn >= fromMs && j.finishedOn < toMs);
+  return {
+    jobs: done.length,
+    predictionDeferred: done.filter((j) => (j.returnvalue as { predictionDeferred?: boolean } | null)?.predictionDeferred === true).length,
+    batches: new Set(done.map((j) => (j.data as { batchId: string }).batchId)).size,
+  };
+}
+
 interface LoadedPhase {
   name: string;
   probes: ProbeFigures;
   seconds: number;
+  queue: QueueDepth;
+  finished: { jobs: number; predictionDeferred: number; batches: number };
   backgroundSamplesPerS: number;
   backgroundErrors: number;
   backgroundErrorKinds: Record<string, number>;
@@ -281,6 +326,7 @@ interface LoadedPhase {
 interface ServiceFigures {
   idle: ProbeFigures;
   workerIdle: WorkerMetrics;
+  queueIdle: QueueDepth;
   phases: LoadedPhase[];
   predictionRows: number;
   workerWarnings: string;
@@ -345,6 +391,8 @@ async function serviceLatency(): Promise<ServiceFigures> {
   let api: ChildService | null = null;
   let worker: ChildService | null = null;
   let stream: { close(): void } | null = null;
+  const queue = new Queue(RECOMPUTE_QUEUE, { connection: { url: BENCH_REDIS_URL }, prefix });
+  queue.on('error', () => {});
   try {
     const nowS = Math.floor(Date.now() / 1000);
     const inBathSinceMs = (nowS - HISTORY_MIN * 60) * 1000;
@@ -376,7 +424,9 @@ async function serviceLatency(): Promise<ServiceFigures> {
 
     console.log(`B1: ${PROBES} probes with the plant idle ...`);
     const m0 = await workerMetrics(metricsPort);
+    const idleQueue = sampleQueue(queue);
     const idle = await probe(api, agent, probeCtl, probeBatch, events, PROBES, lastSent);
+    const queueIdle = await idleQueue.stop();
     const m1 = await workerMetrics(metricsPort);
 
     const phases: LoadedPhase[] = [];
@@ -390,14 +440,19 @@ async function serviceLatency(): Promise<ServiceFigures> {
       const bg = startBackground(api, agent, shape.controllers);
       await sleep(3_000); // let the background reach its rate
       const t0 = performance.now();
+      const fromMs = Date.now();
+      const depth = sampleQueue(queue);
       const probes = await probe(api, agent, probeCtl, probeBatch, events, PROBES, lastSent, PHASE_BUDGET_S * 1000);
       const seconds = (performance.now() - t0) / 1000;
+      const queueDepth = await depth.stop();
       const mAfter = await workerMetrics(metricsPort);
       const b = await bg.stop();
       phases.push({
         name: shape.name,
         probes,
         seconds,
+        queue: queueDepth,
+        finished: await finishedJobs(queue, fromMs, Date.now()),
         backgroundSamplesPerS: b.samplesPerS,
         backgroundErrors: b.errors,
         backgroundErrorKinds: b.errorKinds,
@@ -411,6 +466,7 @@ async function serviceLatency(): Promise<ServiceFigures> {
     return {
       idle,
       workerIdle: { jobs: m1.jobs - m0.jobs, seconds: m1.seconds - m0.seconds },
+      queueIdle,
       phases,
       predictionRows,
       workerWarnings: worker.stderr.join('').slice(0, 300),
@@ -418,6 +474,7 @@ async function serviceLatency(): Promise<ServiceFigures> {
   } finally {
     stream?.close();
     agent.destroy();
+    await queue.close().catch(() => {});
     await worker?.stop();
     await api?.stop();
     await prisma.$disconnect().catch(() => {});
@@ -473,17 +530,18 @@ async function main(): Promise<void> {
     ];
     console.log('');
     console.log(
-      `B. post → its batch's event on GET /v1/stream; probe load in the bath (20 thermocouples, ${HISTORY_MIN} min of history at the start); api + worker as built (WORKER_CONCURRENCY 2, debounce 250 ms); a probe unanswered in 30 s counts as not answered`,
+      `B. post → its batch's event on GET /v1/stream; probe load in the bath (20 thermocouples, ${HISTORY_MIN} min of history at the start); api + worker as built (WORKER_CONCURRENCY 2; recomputes coalesced per batch: at most one active and one waiting); a probe unanswered in 30 s counts as not answered`,
     );
     printTable(
       ['plant while probing', 'answered', 'rules p50 ms', 'rules p95 ms', 'prediction p50 ms', 'prediction p95 ms', 'p50 vs idle (rules / prediction)'],
       [row('idle (baseline)', s.idle), ...s.phases.map((ph) => row(ph.name, ph.probes, s.idle))],
     );
     const mean = (m: WorkerMetrics) => (m.jobs ? `${fmt((m.seconds / m.jobs) * 1000, 0)} ms` : '–');
-    console.log(`worker, idle: ${s.workerIdle.jobs} jobs, mean ${mean(s.workerIdle)} (its /metrics)`);
+    console.log(`worker, idle: ${s.workerIdle.jobs} jobs, mean ${mean(s.workerIdle)} (its /metrics); queue at most ${s.queueIdle.maxWaiting} waiting / ${s.queueIdle.maxActive} active`);
     for (const ph of s.phases) {
       console.log(
-        `${ph.name}: background ${fmt(ph.backgroundSamplesPerS, 0)} samples/s acknowledged (${ph.backgroundErrors} errors${ph.backgroundErrors ? ` ${JSON.stringify(ph.backgroundErrorKinds)}` : ''}), post p50 ${fmt(ph.postP50Ms, 0)} ms / p99 ${fmt(ph.postP99Ms, 0)} ms; worker ${ph.worker.jobs} jobs in ${fmt(ph.seconds, 0)} s, mean ${mean(ph.worker)}`,
+        `${ph.name}: background ${fmt(ph.backgroundSamplesPerS, 0)} samples/s acknowledged (${ph.backgroundErrors} errors${ph.backgroundErrors ? ` ${JSON.stringify(ph.backgroundErrorKinds)}` : ''}), post p50 ${fmt(ph.postP50Ms, 0)} ms / p99 ${fmt(ph.postP99Ms, 0)} ms; worker ${ph.worker.jobs} jobs in ${fmt(ph.seconds, 0)} s, mean ${mean(ph.worker)}; ` +
+          `queue at most ${ph.queue.maxWaiting} waiting / ${ph.queue.maxActive} active (${ph.queue.samples} samples); ${ph.finished.jobs} recomputes of ${ph.finished.batches} batches finished, ${ph.finished.predictionDeferred} left their prediction to a successor`,
       );
     }
     console.log(`probe load: ${s.predictionRows} prediction rows stored (the prediction step ran)`);

@@ -308,9 +308,13 @@ describe('recompute on heat revisions, events and lab results', () => {
     const batch = await createBatchViaApi(world);
     await postEvent(world, batch.id, 'CHARGED', Date.now() - 3_600_000);
     expect(await queuedFor(batch.id)).toMatchObject({ batchId: batch.id, reason: 'load-event' });
+    const waitingJobId = await queue.getDeduplicationJobId(recomputeDedupId(batch.id));
     const lab = { kind: 'RETAINED_AUSTENITE', method: 'XRD', testStandard: 'ASTM E975', volumePct: 25, externalRef: uniqueCode('RA') };
-    await http.post(`/v1/batches/${batch.id}/lab-results`, lab, labKey.headers);
-    // Debounced: the waiting job now carries the latest reason.
-    expect(await queuedFor(batch.id)).toMatchObject({ batchId: batch.id, reason: 'lab-result' });
+    const posted = await http.post(`/v1/batches/${batch.id}/lab-results`, lab, labKey.headers);
+    expect(posted.status).toBe(201);
+    // Coalesced (recomputeJobOptions): the lab result folds into the job still waiting, which reads everything when
+    // it runs; no second job is queued.
+    expect(await queue.getDeduplicationJobId(recomputeDedupId(batch.id))).toBe(waitingJobId);
+    expect((await queue.getJobs(['waiting', 'delayed'])).filter((j) => j.data.batchId === batch.id)).toHaveLength(1);
   });
 });

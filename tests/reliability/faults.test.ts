@@ -45,9 +45,8 @@ const MIGRATIONS_DIR = fileURLToPath(new URL('../../prisma/migrations', import.m
 const LINES = 4;
 const SAMPLE_PERIOD_MS = 5_000;
 // Five minutes of readings per request: about 2 requests/s in all, which one worker keeps up with on a busy
-// 2-core machine. (Posting faster piles up redundant recompute jobs: the queue's deduplication only folds
-// jobs that are still delayed; see docs/reliability.md. That is a throughput matter, measured by
-// bench/recompute.ts, not what this test is about.)
+// 2-core machine. (Recomputes are coalesced per batch, at most one active and one waiting, so posting faster
+// costs latency, not a pile of jobs; throughput is measured by bench/recompute.ts, not what this test is about.)
 const CHUNK_MS = 5 * 60_000;
 const REPLAY_WALL_MS = 60_000;
 const MIN = 60_000;

@@ -30,7 +30,7 @@ export const OUTCOME_QUEUE = 'outcome';
 /** Per product spec and line: the drift charts over all lots, and the drift deviations. */
 export const DRIFT_QUEUE = 'drift';
 
-/** Debounce of both queues: a burst of recomputes of one batch (or of one product's batches) folds into one job. */
+/** Delay of both queues from the first add: a burst of recomputes of one batch (or of one product's batches) folds into one job. */
 export const DRIFT_DEBOUNCE_MS = 500;
 
 export const OutcomeJob = z.strictObject({
@@ -46,7 +46,7 @@ export const DriftJob = z.strictObject({
 });
 export type DriftJob = z.infer<typeof DriftJob>;
 
-/** BullMQ deduplication ids (used with { id, ttl, extend, replace }, like recomputeDedupId). */
+/** BullMQ deduplication ids (used with { id, keepLastIfActive }, like recomputeDedupId; apps/worker/src/drift/enqueue.ts). */
 export function outcomeDedupId(batchId: string): string {
   return `outcome:${batchId}`;
 }

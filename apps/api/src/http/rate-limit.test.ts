@@ -1,5 +1,8 @@
 import { describe, expect, it } from 'vitest';
+import { loadConfig } from '@ausline/contracts';
 import { rateLimitSettingsFrom, TokenBuckets } from './rate-limit.js';
+
+const minimal = { DATABASE_URL: 'postgresql://postgres@127.0.0.1:5432/ausline', REDIS_URL: 'redis://127.0.0.1:6379' };
 
 describe('TokenBuckets', () => {
   it('allows the burst at once, then one token per 1/rate seconds, and says how long to wait', () => {
@@ -58,12 +61,14 @@ describe('TokenBuckets', () => {
 });
 
 describe('rateLimitSettingsFrom', () => {
-  it('takes config values first, then the environment, then the defaults', () => {
-    const settings = rateLimitSettingsFrom({ RATE_LIMIT_KEY_PER_S: 7 }, { RATE_LIMIT_KEY_PER_S: '99', RATE_LIMIT_IP_PER_S: '0', LOGIN_MAX_FAILURES_PER_ACCOUNT: ' 3 ' });
+  it('takes the settings loadConfig read (defaults where unset, 0 = off)', () => {
+    const settings = rateLimitSettingsFrom(loadConfig({ ...minimal, RATE_LIMIT_KEY_PER_S: '7', RATE_LIMIT_IP_PER_S: '0', LOGIN_MAX_FAILURES_PER_ACCOUNT: ' 3 ' }));
     expect(settings).toEqual({ ipPerS: 0, ipBurst: 400, keyPerS: 7, keyBurst: 200, loginFailuresPerAccount: 3, loginFailuresPerIp: 50, loginWindowMin: 15 });
   });
 
-  it('refuses anything but whole numbers >= 0, naming every bad variable', () => {
-    expect(() => rateLimitSettingsFrom({}, { RATE_LIMIT_IP_PER_S: '-1', RATE_LIMIT_KEY_BURST: 'lots' })).toThrow(/RATE_LIMIT_IP_PER_S .*"-1".*RATE_LIMIT_KEY_BURST .*"lots"/);
+  it('bad values stop the start with an error naming every bad variable', () => {
+    expect(() => loadConfig({ ...minimal, RATE_LIMIT_IP_PER_S: '-1', RATE_LIMIT_KEY_BURST: 'lots', LOGIN_FAILURE_WINDOW_MIN: '0' })).toThrow(
+      /RATE_LIMIT_IP_PER_S: must be at least 0, got "-1"[\s\S]*RATE_LIMIT_KEY_BURST: must be a whole number, got "lots"[\s\S]*LOGIN_FAILURE_WINDOW_MIN: must be at least 1, got "0"/,
+    );
   });
 });

@@ -1,5 +1,6 @@
 import { createHash } from 'node:crypto';
 import type { IncomingMessage, ServerResponse } from 'node:http';
+import type { AppConfig } from '@ausline/contracts';
 import { ApiError } from './errors.js';
 
 /**
@@ -17,11 +18,22 @@ import { ApiError } from './errors.js';
  * is 429 in the API's error shape with Retry-After (whole seconds until one request is allowed).
  * Controllers (apps/line-sim) honour Retry-After and keep their outbox, so nothing is lost.
  *
- * Settings come from the API config when it carries them (RATE_LIMIT_* / LOGIN_* names), else from
- * the environment, else the defaults below; 0 switches a limit off. The client address is the TCP
- * peer: behind a reverse proxy every client shares the proxy's address, so raise or switch off the
- * per-address limit there and rely on the per-key and per-account limits.
+ * Settings come from the API config (libs/contracts loadConfig: RATE_LIMIT_* and LOGIN_* variables,
+ * checked at start with the rest of the configuration, listed in the README); 0 switches a limit off.
+ * The client address is the TCP peer: behind a reverse proxy every client shares the proxy's address,
+ * so raise or switch off the per-address limit there and rely on the per-key and per-account limits.
  */
+
+type RateLimitConfig = Pick<
+  AppConfig,
+  | 'RATE_LIMIT_IP_PER_S'
+  | 'RATE_LIMIT_IP_BURST'
+  | 'RATE_LIMIT_KEY_PER_S'
+  | 'RATE_LIMIT_KEY_BURST'
+  | 'LOGIN_MAX_FAILURES_PER_ACCOUNT'
+  | 'LOGIN_MAX_FAILURES_PER_IP'
+  | 'LOGIN_FAILURE_WINDOW_MIN'
+>;
 
 export interface RateLimitSettings {
   /** Requests per second per client address (0 = no limit) and the burst above it. */
@@ -36,38 +48,17 @@ export interface RateLimitSettings {
   loginWindowMin: number;
 }
 
-/** The variables, their defaults and what they mean (docs/security.md lists them). */
-export const RATE_LIMIT_VARIABLES = {
-  RATE_LIMIT_IP_PER_S: { field: 'ipPerS', fallback: 200, description: 'Requests per second per client address; 0 = off.' },
-  RATE_LIMIT_IP_BURST: { field: 'ipBurst', fallback: 400, description: 'Requests a client address may send at once above its rate.' },
-  RATE_LIMIT_KEY_PER_S: { field: 'keyPerS', fallback: 50, description: 'Requests per second per API key; 0 = off.' },
-  RATE_LIMIT_KEY_BURST: { field: 'keyBurst', fallback: 200, description: 'Requests an API key may send at once above its rate.' },
-  LOGIN_MAX_FAILURES_PER_ACCOUNT: { field: 'loginFailuresPerAccount', fallback: 10, description: 'Failed sign-ins per account within LOGIN_FAILURE_WINDOW_MIN; 0 = off.' },
-  LOGIN_MAX_FAILURES_PER_IP: { field: 'loginFailuresPerIp', fallback: 50, description: 'Failed sign-ins per client address within LOGIN_FAILURE_WINDOW_MIN; 0 = off.' },
-  LOGIN_FAILURE_WINDOW_MIN: { field: 'loginWindowMin', fallback: 15, description: 'Minutes over which failed sign-ins are counted (the allowance refills evenly over it).' },
-} as const satisfies Record<string, { field: keyof RateLimitSettings; fallback: number; description: string }>;
-
-/**
- * Reads the settings: a number already in `config` (once loadConfig knows the names), else the
- * environment variable, else the default. A value that is not a whole number >= 0 is an error at start.
- */
-export function rateLimitSettingsFrom(config: object, env: Readonly<Record<string, string | undefined>> = process.env): RateLimitSettings {
-  const settings = {} as RateLimitSettings;
-  const problems: string[] = [];
-  for (const [name, { field, fallback }] of Object.entries(RATE_LIMIT_VARIABLES)) {
-    const fromConfig = (config as Record<string, unknown>)[name];
-    const raw = fromConfig ?? env[name];
-    if (raw === undefined || (typeof raw === 'string' && raw.trim() === '')) {
-      settings[field] = fallback;
-      continue;
-    }
-    const value = typeof raw === 'number' ? raw : Number(String(raw).trim());
-    if (!Number.isInteger(value) || value < 0 || value > 1_000_000) problems.push(`${name} must be a whole number from 0 to 1000000, got ${JSON.stringify(raw)}`);
-    else settings[field] = value;
-  }
-  if (problems.length > 0) throw new Error(`Invalid rate limit configuration: ${problems.join('; ')}`);
-  if (settings.loginWindowMin === 0) settings.loginWindowMin = 1;
-  return settings;
+/** The settings from the loaded configuration (validated there: whole numbers, the window at least 1 min). */
+export function rateLimitSettingsFrom(config: RateLimitConfig): RateLimitSettings {
+  return {
+    ipPerS: config.RATE_LIMIT_IP_PER_S,
+    ipBurst: config.RATE_LIMIT_IP_BURST,
+    keyPerS: config.RATE_LIMIT_KEY_PER_S,
+    keyBurst: config.RATE_LIMIT_KEY_BURST,
+    loginFailuresPerAccount: config.LOGIN_MAX_FAILURES_PER_ACCOUNT,
+    loginFailuresPerIp: config.LOGIN_MAX_FAILURES_PER_IP,
+    loginWindowMin: config.LOGIN_FAILURE_WINDOW_MIN,
+  };
 }
 
 /** Token buckets by key; idle full buckets are forgotten so memory stays bounded. */

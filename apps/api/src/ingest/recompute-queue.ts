@@ -1,7 +1,7 @@
 import { Inject, Injectable, Optional, type OnApplicationShutdown } from '@nestjs/common';
 import { Queue } from 'bullmq';
 import { Redis } from 'ioredis';
-import { RECOMPUTE_DEBOUNCE_MS, RECOMPUTE_QUEUE, recomputeDedupId, type RecomputeJob } from '@ausline/contracts';
+import { RECOMPUTE_QUEUE, recomputeJobOptions, type RecomputeJob } from '@ausline/contracts';
 import type { PrismaClient } from '@ausline/db';
 import { API_CONFIG, type ApiConfig } from '../app-config.js';
 import { InjectPrisma } from '../prisma.provider.js';
@@ -72,8 +72,9 @@ export class RecomputeQueue implements OnApplicationShutdown {
   }
 
   /**
-   * Enqueues one debounced, deduplicated recompute per batch. Never throws: whatever Redis does, the
-   * caller's data is already committed and each batch ends up either queued or marked stale.
+   * Enqueues a recompute per batch, coalesced (recomputeJobOptions: at most one active and one waiting per
+   * batch). Never throws: whatever Redis does, the caller's data is already committed and each batch ends up
+   * either queued or marked stale.
    */
   async enqueue(batchIds: Iterable<string>, reason: RecomputeReason): Promise<EnqueueOutcome> {
     const ids = [...new Set(batchIds)];
@@ -103,18 +104,7 @@ export class RecomputeQueue implements OnApplicationShutdown {
   }
 
   private add(batchId: string, reason: RecomputeReason): Promise<unknown> {
-    return this.queue.add(
-      'recompute',
-      { batchId, reason },
-      {
-        deduplication: { id: recomputeDedupId(batchId), ttl: RECOMPUTE_DEBOUNCE_MS, extend: true, replace: true },
-        delay: RECOMPUTE_DEBOUNCE_MS,
-        removeOnComplete: 1000,
-        removeOnFail: 5000,
-        attempts: 5,
-        backoff: { type: 'exponential', delay: 1000 },
-      },
-    );
+    return this.queue.add('recompute', { batchId, reason }, recomputeJobOptions(batchId));
   }
 
   /** Flags batches for the reconciler; staleSince from the database clock (the worker's guard reads it). */

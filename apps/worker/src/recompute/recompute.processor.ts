@@ -6,6 +6,7 @@ import { WorkerLogger, errorMessage } from '../logger.js';
 import { WorkerMetrics } from '../ops/worker-metrics.js';
 import { DRAIN_SHARE, settledWithin } from '../shutdown-budget.js';
 import { WORKER_CONFIG } from '../worker-config.js';
+import { PredictionDeferral } from './prediction-deferral.js';
 import type { PredictionWrite } from './prediction-store.js';
 import { BatchNotFoundError, RecomputeService } from './recompute.service.js';
 import { InvalidSpecError } from './steps.js';
@@ -17,6 +18,8 @@ import { InvalidSpecError } from './steps.js';
  */
 @Processor(RECOMPUTE_QUEUE, { concurrency: 1, maxStalledCount: 2 })
 export class RecomputeProcessor extends WorkerHost implements OnApplicationBootstrap, BeforeApplicationShutdown {
+  private readonly deferral = new PredictionDeferral();
+
   constructor(
     @Inject(WORKER_CONFIG) private readonly config: AppConfig,
     private readonly recompute: RecomputeService,
@@ -32,7 +35,9 @@ export class RecomputeProcessor extends WorkerHost implements OnApplicationBoots
     this.worker.on('error', (error) => this.logger.event('warn', { msg: 'recompute worker: Redis problem', error: errorMessage(error) }));
   }
 
-  async process(job: Job<unknown>): Promise<{ findings: number; changes: number; staleCleared: boolean; prediction: PredictionWrite | null }> {
+  async process(
+    job: Job<unknown>,
+  ): Promise<{ findings: number; changes: number; staleCleared: boolean; prediction: PredictionWrite | null; predictionDeferred: boolean }> {
     const endTimer = this.metrics.jobDurationSeconds.startTimer({ queue: RECOMPUTE_QUEUE });
     const parsed = RecomputeJob.safeParse(job.data);
     if (!parsed.success) {
@@ -41,10 +46,20 @@ export class RecomputeProcessor extends WorkerHost implements OnApplicationBoots
     }
     const { batchId, reason } = parsed.data;
     try {
-      const out = await this.recompute.recompute(batchId);
+      const out = await this.recompute.recompute(batchId, {
+        deferPrediction: async () => this.deferral.shouldDefer(batchId, await this.successorQueued(job)),
+      });
       endTimer({ outcome: 'ok' });
-      this.logger.event('debug', { msg: 'batch recomputed', batchId, reason, findings: out.findings, changes: out.changes.length, staleCleared: out.staleCleared });
-      return { findings: out.findings, changes: out.changes.length, staleCleared: out.staleCleared, prediction: out.prediction };
+      this.logger.event('debug', {
+        msg: 'batch recomputed',
+        batchId,
+        reason,
+        findings: out.findings,
+        changes: out.changes.length,
+        staleCleared: out.staleCleared,
+        predictionDeferred: out.predictionDeferred,
+      });
+      return { findings: out.findings, changes: out.changes.length, staleCleared: out.staleCleared, prediction: out.prediction, predictionDeferred: out.predictionDeferred };
     } catch (error) {
       if (error instanceof BatchNotFoundError || error instanceof InvalidSpecError) {
         endTimer({ outcome: 'invalid' });
@@ -52,6 +67,21 @@ export class RecomputeProcessor extends WorkerHost implements OnApplicationBoots
       }
       endTimer({ outcome: 'failed' });
       throw error instanceof Error ? error : new Error(String(error));
+    }
+  }
+
+  /**
+   * Whether a newer recompute of this job's batch was added while it ran. With `keepLastIfActive` BullMQ keeps such
+   * an add aside in the hash `<queue>:dn:<deduplication id>` (its Lua scripts, 6.7: storeDeduplicatedNextJob) and
+   * turns it into a job when this one finishes. Any doubt (no deduplication id, Redis trouble) answers false: predict.
+   */
+  private async successorQueued(job: Job<unknown>): Promise<boolean> {
+    if (!job.deduplicationId) return false;
+    try {
+      const client = await this.worker.getBackend().client;
+      return (await client.hexists(this.worker.toKey(`dn:${job.deduplicationId}`), 'data')) === 1;
+    } catch {
+      return false;
     }
   }
 

@@ -14,8 +14,19 @@ export interface RecomputeOutcome {
   findings: number;
   changes: DeviationChange[];
   staleCleared: boolean;
-  /** What happened to the batch's prediction rows (null: nothing to predict). */
+  /** What happened to the batch's prediction rows (null: nothing to predict, or deferred). */
   prediction: PredictionWrite | null;
+  /** The prediction was left to the recompute already queued behind this one (see RecomputeOptions). */
+  predictionDeferred: boolean;
+}
+
+export interface RecomputeOptions {
+  /**
+   * Asked once the process-window result is committed and published: true leaves the prediction to a newer
+   * recompute of the batch that is already queued behind this one (it reads newer data and predicts; the worker
+   * bounds how long a batch's prediction may be put off). Absent: always predict.
+   */
+  deferPrediction?: () => Promise<boolean>;
 }
 
 export class BatchNotFoundError extends Error {
@@ -59,7 +70,7 @@ export class RecomputeService {
     this.pyrometry = new PyrometryRepository(prisma);
   }
 
-  async recompute(batchId: string): Promise<RecomputeOutcome> {
+  async recompute(batchId: string, options: RecomputeOptions = {}): Promise<RecomputeOutcome> {
     const outcome = await this.prisma.$transaction(
       async (tx) => {
         await tx.$executeRaw`SELECT pg_advisory_xact_lock(hashtextextended(${`ausline:recompute:${batchId}`}, 0))`;
@@ -111,6 +122,9 @@ export class RecomputeService {
 
     if ('invalidSpec' in outcome) throw outcome.invalidSpec;
     await this.publish(batchId, outcome.lineId, outcome.changes, true);
+    if (options.deferPrediction && (await options.deferPrediction())) {
+      return { batchId, findings: outcome.findings, changes: outcome.changes, staleCleared: outcome.staleCleared, prediction: null, predictionDeferred: true };
+    }
 
     // The metallurgical prediction takes from tens of milliseconds (one more increment) to seconds (a long batch
     // from scratch with 1,000 ensemble members): it runs in its own transaction after the process-window result is
@@ -123,6 +137,7 @@ export class RecomputeService {
       changes: [...outcome.changes, ...predicted.changes],
       staleCleared: outcome.staleCleared,
       prediction: predicted.write,
+      predictionDeferred: false,
     };
   }
 
