@@ -15,23 +15,33 @@ interface PgQueryable {
   query<R extends object>(text: string, values?: unknown[]): Promise<{ rows: R[] }>;
 }
 
+/**
+ * Every batch of a line with its window's ends, as a FROM item ("windows"): `lineParam` is the SQL of the
+ * line id (a parameter such as $1).
+ */
+export function batchWindowsSql(lineParam: string): string {
+  return `SELECT b."id", charged."at" AS "chargedAt", done."at" AS "doneAt"
+    FROM "Batch" b
+    JOIN "LoadEvent" charged ON charged."batchId" = b."id" AND charged."kind" = 'CHARGED'
+    LEFT JOIN "LoadEvent" done ON done."batchId" = b."id" AND done."kind" = 'OUT_OF_BATH'
+    WHERE b."lineId" = ${lineParam}::uuid`;
+}
+
+/**
+ * The condition "the window of batch `w` (a row of batchWindowsSql) covers [fromSql, toSql]" (timestamptz
+ * expressions), with BATCH_WINDOW_MARGIN_MS either side and OPEN_BATCH_HORIZON_MS for open batches.
+ */
+export function windowCoversSql(w: string, fromSql: string, toSql: string): string {
+  return `(${w}."chargedAt" <= (${toSql}) + interval '${BATCH_WINDOW_MARGIN_MS} milliseconds'
+    AND ((${w}."doneAt" IS NOT NULL AND ${w}."doneAt" >= (${fromSql}) - interval '${BATCH_WINDOW_MARGIN_MS} milliseconds')
+      OR (${w}."doneAt" IS NULL AND ${w}."chargedAt" >= (${fromSql}) - interval '${OPEN_BATCH_HORIZON_MS} milliseconds')))`;
+}
+
 /** Batches on `lineId` whose window overlaps [fromMs, toMs] (the span of newly stored samples). */
 export async function batchesCoveringSpan(db: PgQueryable, lineId: string, fromMs: number, toMs: number): Promise<string[]> {
-  const from = new Date(fromMs - BATCH_WINDOW_MARGIN_MS);
-  const to = new Date(toMs + BATCH_WINDOW_MARGIN_MS);
-  const horizonStart = new Date(fromMs - OPEN_BATCH_HORIZON_MS);
   const { rows } = await db.query<{ id: string }>(
-    `SELECT b."id"
-     FROM "Batch" b
-     JOIN "LoadEvent" charged ON charged."batchId" = b."id" AND charged."kind" = 'CHARGED'
-     LEFT JOIN "LoadEvent" done ON done."batchId" = b."id" AND done."kind" = 'OUT_OF_BATH'
-     WHERE b."lineId" = $1::uuid
-       AND charged."at" <= $2
-       AND (
-         (done."at" IS NOT NULL AND done."at" >= $3)
-         OR (done."at" IS NULL AND charged."at" >= $4)
-       )`,
-    [lineId, to, from, horizonStart],
+    `SELECT w."id" FROM (${batchWindowsSql('$1')}) w WHERE ${windowCoversSql('w', '$2::timestamptz', '$3::timestamptz')}`,
+    [lineId, new Date(fromMs), new Date(toMs)],
   );
   return rows.map((r) => r.id);
 }

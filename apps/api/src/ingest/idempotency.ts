@@ -109,15 +109,57 @@ function parseStructuredString(text: string): string | undefined {
   return out;
 }
 
-/** JSON with object keys sorted at every level, so key order does not change a request's identity. */
+/**
+ * JSON with object keys sorted at every level, so key order does not change a request's identity.
+ * (Undefined object members are left out, as JSON.stringify does; anything JSON cannot say is null.)
+ * Built in one pass into one string, with the sorted key order of each object shape worked out once: a
+ * 10,000-sample body is hashed on every request that carries a key.
+ */
 export function stableStringify(value: unknown): string {
-  if (value === null || typeof value !== 'object') return JSON.stringify(value) ?? 'null';
-  if (Array.isArray(value)) return `[${value.map(stableStringify).join(',')}]`;
-  const entries = Object.keys(value as Record<string, unknown>)
-    .sort()
-    .filter((k) => (value as Record<string, unknown>)[k] !== undefined)
-    .map((k) => `${JSON.stringify(k)}:${stableStringify((value as Record<string, unknown>)[k])}`);
-  return `{${entries.join(',')}}`;
+  return appendStable('', value);
+}
+
+/** An object shape's keys in their own order, and in sorted order with each key already quoted. */
+interface ShapePlan {
+  own: string[];
+  sorted: Array<{ key: string; quoted: string }>;
+}
+const shapePlans = new Map<string, ShapePlan>();
+const MAX_SHAPES = 1_000;
+
+function planFor(keys: string[]): ShapePlan {
+  const signature = keys.join(',');
+  const known = shapePlans.get(signature);
+  // The signature is ambiguous (keys may contain commas): a plan is used only for the very same keys.
+  if (known && known.own.length === keys.length && known.own.every((k, i) => k === keys[i])) return known;
+  const plan: ShapePlan = { own: keys, sorted: [...keys].sort().map((key) => ({ key, quoted: `${JSON.stringify(key)}:` })) };
+  if (!known && shapePlans.size < MAX_SHAPES) shapePlans.set(signature, plan);
+  return plan;
+}
+
+function appendStable(out: string, value: unknown): string {
+  if (typeof value === 'number') return out + (Number.isFinite(value) ? String(value) : 'null');
+  if (value === null || typeof value !== 'object') return out + (JSON.stringify(value) ?? 'null');
+  if (Array.isArray(value)) {
+    out += '[';
+    for (let i = 0; i < value.length; i++) {
+      if (i > 0) out += ',';
+      out = appendStable(out, value[i]);
+    }
+    return out + ']';
+  }
+  const record = value as Record<string, unknown>;
+  const { sorted } = planFor(Object.keys(record));
+  out += '{';
+  let first = true;
+  for (const { key, quoted } of sorted) {
+    const v = record[key];
+    if (v === undefined) continue;
+    if (!first) out += ',';
+    first = false;
+    out = appendStable(out + quoted, v);
+  }
+  return out + '}';
 }
 
 export function requestFingerprint(method: string, path: string, body: unknown): string {

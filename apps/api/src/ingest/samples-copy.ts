@@ -4,11 +4,15 @@
  * CopyInResponse we send the prepared CopyData chunks and CopyDone; CommandComplete carries "COPY <n>".
  * This is the PostgreSQL frontend/backend protocol's copy-in sub-protocol (PostgreSQL docs, "Message Flow:
  * COPY Operations"). The api's sample ingest uses it with the binary format below; bench/ uses it for
- * its raw-COPY baseline.
+ * its raw-COPY baseline. The staging statements are here too, so bench/ingest.ts runs exactly what the
+ * api runs, without Nest.
  */
 import type pg from 'pg';
+import { batchWindowsSql, windowCoversSql } from './batch-window.js';
 
 interface CopyConnection {
+  /** pg's Connection keeps its socket here. */
+  stream?: { cork?: () => void; uncork?: () => void };
   query(text: string): void;
   sendCopyFromChunk(chunk: Buffer): void;
   endCopyFrom(): void;
@@ -29,8 +33,11 @@ class CopyFromStdin {
   }
 
   handleCopyInResponse(connection: CopyConnection): void {
+    // One write for the data and CopyDone (each message is otherwise a write of its own).
+    connection.stream?.cork?.();
     for (const chunk of this.chunks) connection.sendCopyFromChunk(chunk);
     connection.endCopyFrom();
+    connection.stream?.uncork?.();
   }
 
   handleCommandComplete(msg: { text?: string }): void {
@@ -65,6 +72,82 @@ export function copyFromStdin(client: pg.Client | pg.PoolClient, copySql: string
     (client as unknown as { query(q: unknown): void }).query(submittable);
   });
 }
+
+// ---- the staging statements of the samples path (bench/ingest.ts runs them straight through pg too) ----
+
+/**
+ * Per-connection staging table: each request COPYs its rows here (binary), then one INSERT ... SELECT
+ * moves them into "Sample". ON COMMIT DELETE ROWS empties it at the end of every transaction.
+ */
+export const STAGING = 'ausline_sample_in';
+export const CREATE_STAGING = `CREATE TEMP TABLE IF NOT EXISTS ${STAGING} ("channelId" uuid NOT NULL, "t" timestamptz(3) NOT NULL, "value" float8 NOT NULL) ON COMMIT DELETE ROWS`;
+export const COPY_STAGING = `COPY ${STAGING} ("channelId", "t", "value") FROM STDIN (FORMAT binary)`;
+/**
+ * The first statement of a samples transaction: claims the Idempotency-Key when there is one ($2..$5:
+ * principal, key, request hash, TTL in ms; all null without a key) and reads the equipment with its
+ * channels ($1), in one round trip. "claimId" is null when the key was already claimed (then
+ * claimInTransaction tells why) or not given. Zero rows: no such equipment.
+ */
+export const CLAIM_AND_EQUIPMENT = {
+  name: 'ausline-samples-claim-equipment',
+  text: `WITH claim AS (
+      INSERT INTO "IdempotencyRecord" ("principal", "key", "requestHash", "expiresAt")
+      SELECT $2::text, $3::text, $4::text, now() + $5::float8 * interval '1 millisecond' WHERE $2::text IS NOT NULL
+      ON CONFLICT ("principal", "key") DO NOTHING
+      RETURNING "id"
+    )
+    SELECT e."code", e."lineId", c."id" AS "channelId", c."code" AS "channelCode", (SELECT "id" FROM claim) AS "claimId"
+    FROM "Equipment" e LEFT JOIN "Channel" c ON c."equipmentId" = e."id"
+    WHERE e."id" = $1::uuid`,
+};
+
+/**
+ * The second: moves the staged rows into "Sample" (ON CONFLICT DO NOTHING), and in the same round trip
+ * counts them, counts the conflicts (only when some rows were duplicates: a second primary-key probe per
+ * row otherwise saved), finds the batches to queue, and stores the reply for the claim ($5, or null).
+ *
+ * $1 line id, $2 samples in the request, $3/$4 the request's first and last time, $5 the claim.
+ * "queued": batches of the line covering the newly stored rows (the reply's batchesQueued);
+ * "requeued": when there were duplicates, the batches covering the whole request (an earlier attempt may
+ * have stored those rows and died before queueing). The conflicts count reads "Sample" as it was before
+ * this statement (one snapshot), i.e. the rows the INSERT found already stored.
+ */
+export const STORE_FROM_STAGING = {
+  name: 'ausline-samples-store',
+  text: `WITH inserted AS (
+      INSERT INTO "Sample" ("channelId", "t", "value")
+      SELECT "channelId", "t", "value" FROM ${STAGING}
+      ON CONFLICT ("channelId", "t") DO NOTHING
+      RETURNING "t"
+    ), span AS (
+      SELECT count(*)::int AS "stored", min("t") AS "minT", max("t") AS "maxT" FROM inserted
+    ), counted AS (
+      SELECT span.*,
+        CASE WHEN span."stored" < $2::int THEN (
+          SELECT count(*)::int FROM ${STAGING} i
+          JOIN "Sample" s ON s."channelId" = i."channelId" AND s."t" = i."t"
+          WHERE s."value" IS DISTINCT FROM i."value"
+        ) ELSE 0 END AS "conflicts"
+      FROM span
+    ), windows AS (
+      ${batchWindowsSql('$1')}
+    ), queued AS (
+      SELECT w."id" FROM windows w, counted c WHERE c."stored" > 0 AND ${windowCoversSql('w', 'c."minT"', 'c."maxT"')}
+    ), requeued AS (
+      SELECT w."id" FROM windows w, counted c WHERE c."stored" < $2::int AND ${windowCoversSql('w', '$3::timestamptz', '$4::timestamptz')}
+    ), reply AS (
+      UPDATE "IdempotencyRecord" r SET "responseStatus" = 200, "responseBody" = jsonb_build_object(
+        'stored', c."stored", 'duplicates', $2::int - c."stored", 'conflicts', c."conflicts", 'rejected', 0,
+        'batchesQueued', (SELECT count(*)::int FROM queued))
+      FROM counted c WHERE r."id" = $5::uuid
+      RETURNING r."id"
+    )
+    SELECT c."stored", c."conflicts",
+      ARRAY(SELECT "id" FROM queued) AS "queued",
+      ARRAY(SELECT "id" FROM requeued) AS "requeued",
+      (SELECT count(*)::int FROM reply) AS "replied"
+    FROM counted c`,
+};
 
 // ---- binary COPY rows (uuid, timestamptz, float8) ---------------------------------------------------
 //

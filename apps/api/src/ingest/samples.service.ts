@@ -10,7 +10,7 @@ import { futureTimeIssue } from './device-time.js';
 import { claimedOrThrow, claimInTransaction, completeInTransaction, IdempotentReplay, type IdempotencyClaim } from './idempotency.js';
 import { ingestSettingsFrom } from './ingest-settings.js';
 import { RecomputeQueue } from './recompute-queue.js';
-import { binaryCopyRows, copyFromStdin, uuidBytes } from './samples-copy.js';
+import { binaryCopyRows, CLAIM_AND_EQUIPMENT, copyFromStdin, COPY_STAGING, CREATE_STAGING, STORE_FROM_STAGING, uuidBytes } from './samples-copy.js';
 
 /** Problems listed per refused request; the message says how many there were in all. */
 const MAX_ISSUES = 100;
@@ -20,41 +20,6 @@ const SAMPLES_POOL_MAX = 8;
 const SAMPLES_OK = 200;
 /** channel index × 2^42 + epoch ms: a number key per (channel, t) (epoch ms < 2^42 until the year 2109). */
 const CHANNEL_KEY_STRIDE = 2 ** 42;
-
-/**
- * Per-connection staging table: each request COPYs its rows here (binary), then one INSERT ... SELECT
- * moves them into "Sample". ON COMMIT DELETE ROWS empties it at the end of every transaction.
- */
-const STAGING = 'ausline_sample_in';
-const CREATE_STAGING = `CREATE TEMP TABLE IF NOT EXISTS ${STAGING} ("channelId" uuid NOT NULL, "t" timestamptz(3) NOT NULL, "value" float8 NOT NULL) ON COMMIT DELETE ROWS`;
-const COPY_STAGING = `COPY ${STAGING} ("channelId", "t", "value") FROM STDIN (FORMAT binary)`;
-const INSERT_FROM_STAGING = {
-  name: 'ausline-samples-insert',
-  text: `WITH inserted AS (
-      INSERT INTO "Sample" ("channelId", "t", "value")
-      SELECT "channelId", "t", "value" FROM ${STAGING}
-      ON CONFLICT ("channelId", "t") DO NOTHING
-      RETURNING "t"
-    )
-    SELECT count(*)::int AS "stored", min("t") AS "minT", max("t") AS "maxT" FROM inserted`,
-};
-/**
- * Of the samples not stored, how many differ from the stored row. Run only when there were duplicates.
- * Rows this transaction stored match their staging rows, and a row another transaction committed since
- * the INSERT is one that made a sample here a duplicate, so this counts what the INSERT skipped.
- */
-const COUNT_CONFLICTS = {
-  name: 'ausline-samples-conflicts',
-  text: `SELECT count(*)::int AS "conflicts" FROM ${STAGING} i
-    JOIN "Sample" s ON s."channelId" = i."channelId" AND s."t" = i."t"
-    WHERE s."value" IS DISTINCT FROM i."value"`,
-};
-const EQUIPMENT_CHANNELS = {
-  name: 'ausline-samples-equipment',
-  text: `SELECT e."code", e."lineId", c."id" AS "channelId", c."code" AS "channelCode"
-    FROM "Equipment" e LEFT JOIN "Channel" c ON c."equipmentId" = e."id"
-    WHERE e."id" = $1::uuid`,
-};
 
 interface Outcome {
   /** The reply, or the stored reply to replay. */
@@ -75,6 +40,9 @@ interface Outcome {
  *
  * With an Idempotency-Key the claim and the reply are written in the same transaction
  * (claimInTransaction): a failed attempt leaves no claim, so its retry goes through at once.
+ *
+ * Each statement to Postgres is a round trip (and on a busy host a costly socket write), so a request is
+ * BEGIN, claim + equipment, COPY, store (insert, counts, batches, reply), COMMIT: see samples-copy.ts.
  *
  * Recompute: after the commit, every batch of the line whose window covers the newly stored samples is
  * queued (`batchesQueued` counts them). A request that found duplicates also re-queues the batches
@@ -149,50 +117,47 @@ export class SamplesService implements OnApplicationShutdown {
   }
 
   private async inTransaction(client: pg.PoolClient, equipmentId: string, input: SamplesPost, claim?: IdempotencyClaim): Promise<Outcome> {
-    let claimed: { id: string } | undefined;
-    if (claim) {
+    // Round trip 1: the claim (when there is a key) and the equipment with its channels.
+    const { rows: equipmentRows } = await client.query<EquipmentRow>({
+      ...CLAIM_AND_EQUIPMENT,
+      values: [equipmentId, claim?.principal ?? null, claim?.key ?? null, claim?.requestHash ?? null, this.idempotencyTtlMs],
+    });
+    const equipment = equipmentOf(equipmentRows);
+    // (A claim the statement made for a request on unknown equipment rolls back with this transaction.)
+    if (!equipment) throw notFound(`Equipment ${equipmentId} does not exist`);
+    let claimId: string | null = equipmentRows[0]!.claimId;
+    if (claim && claimId === null) {
+      // Already claimed: why, and what to answer.
       try {
-        claimed = claimedOrThrow(await claimInTransaction(client, claim, this.idempotencyTtlMs));
+        claimId = claimedOrThrow(await claimInTransaction(client, claim, this.idempotencyTtlMs)).id;
       } catch (answer) {
         if (!(answer instanceof IdempotentReplay) || answer.status !== SAMPLES_OK) throw answer;
         // A replay of a stored success: queue the batches of the whole request again (see above).
-        const equipment = await this.equipment(client, equipmentId);
-        const span = equipment ? requestSpan(input) : undefined;
-        const recompute = equipment && span ? await batchesCoveringSpan(client, equipment.lineId, span.fromMs, span.toMs) : [];
+        const span = requestSpan(input);
+        const recompute = span ? await batchesCoveringSpan(client, equipment.lineId, span.fromMs, span.toMs) : [];
         return { answer: { replay: answer }, recompute };
       }
     }
-
-    const equipment = await this.equipment(client, equipmentId);
-    if (!equipment) throw notFound(`Equipment ${equipmentId} does not exist`);
     const rows = this.checked(equipment, input);
 
+    // Round trip 2 (COPY): the rows into the staging table.
     const n = input.samples.length;
     await copyFromStdin(client, COPY_STAGING, [binaryCopyRows(n, (i) => rows.channel[i]!, (i) => rows.tMs[i]!, (i) => input.samples[i]!.value)]);
-    const inserted = (await client.query<{ stored: number; minT: Date | null; maxT: Date | null }>(INSERT_FROM_STAGING)).rows[0];
-    const stored = inserted?.stored ?? 0;
+    // Round trip 3: into "Sample", with the counts, the batches to queue and the stored reply.
+    const result = (
+      await client.query<{ stored: number; conflicts: number; queued: string[]; requeued: string[]; replied: number }>({
+        ...STORE_FROM_STAGING,
+        values: [equipment.lineId, n, new Date(rows.fromMs), new Date(rows.toMs), claimId],
+      })
+    ).rows[0]!;
+    if (claimId !== null && result.replied !== 1) throw new Error(`the Idempotency-Key claim ${claimId} was not found to store the reply`);
+    const stored = result.stored;
     const duplicates = n - stored;
-    const conflicts = duplicates > 0 ? ((await client.query<{ conflicts: number }>(COUNT_CONFLICTS)).rows[0]?.conflicts ?? 0) : 0;
-
-    const queued = stored > 0 && inserted?.minT && inserted.maxT ? await batchesCoveringSpan(client, equipment.lineId, inserted.minT.getTime(), inserted.maxT.getTime()) : [];
-    const requeued = duplicates > 0 ? await batchesCoveringSpan(client, equipment.lineId, rows.fromMs, rows.toMs) : [];
-    const reply: SamplesReply = { stored, duplicates, conflicts, rejected: 0, batchesQueued: queued.length };
-    if (claimed) await completeInTransaction(client, claimed.id, SAMPLES_OK, reply);
+    const reply: SamplesReply = { stored, duplicates, conflicts: result.conflicts, rejected: 0, batchesQueued: result.queued.length };
 
     ingestSamplesTotal.inc({ outcome: 'stored' }, stored);
     if (duplicates > 0) ingestSamplesTotal.inc({ outcome: 'duplicate' }, duplicates);
-    return { answer: { reply }, recompute: [...new Set([...queued, ...requeued])] };
-  }
-
-  private async equipment(client: pg.PoolClient, equipmentId: string): Promise<EquipmentChannels | undefined> {
-    const { rows } = await client.query<{ code: string; lineId: string; channelId: string | null; channelCode: string | null }>({
-      ...EQUIPMENT_CHANNELS,
-      values: [equipmentId],
-    });
-    if (rows.length === 0) return undefined;
-    const channels = new Map<string, { index: number; bytes: Buffer }>();
-    for (const r of rows) if (r.channelId !== null && r.channelCode !== null) channels.set(r.channelCode, { index: channels.size, bytes: uuidBytes(r.channelId) });
-    return { code: rows[0]!.code, lineId: rows[0]!.lineId, channels };
+    return { answer: { reply }, recompute: [...new Set([...result.queued, ...result.requeued])] };
   }
 
   /** Checks the request whole; throws the 422 naming every refused sample (up to MAX_ISSUES). */
@@ -256,6 +221,22 @@ export class SamplesService implements OnApplicationShutdown {
     }
     return { channel, tMs, fromMs, toMs };
   }
+}
+
+interface EquipmentRow {
+  code: string;
+  lineId: string;
+  channelId: string | null;
+  channelCode: string | null;
+  claimId: string | null;
+}
+
+/** The equipment and its channels from the rows of CLAIM_AND_EQUIPMENT; undefined when there were none. */
+function equipmentOf(rows: EquipmentRow[]): EquipmentChannels | undefined {
+  if (rows.length === 0) return undefined;
+  const channels = new Map<string, { index: number; bytes: Buffer }>();
+  for (const r of rows) if (r.channelId !== null && r.channelCode !== null) channels.set(r.channelCode, { index: channels.size, bytes: uuidBytes(r.channelId) });
+  return { code: rows[0]!.code, lineId: rows[0]!.lineId, channels };
 }
 
 interface EquipmentChannels {
