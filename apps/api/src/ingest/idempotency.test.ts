@@ -14,7 +14,7 @@ function reference(value: unknown): string {
 
 /** Seeded xorshift, so a failure names the case that broke. */
 function rng(seed: number): () => number {
-  let x = seed >>> 0 || 1;
+  let x = Math.imul(seed, 2_654_435_761) >>> 0 || 1; // spread small seeds over the state
   return () => {
     x ^= x << 13;
     x ^= x >>> 17;

@@ -127,11 +127,24 @@ interface ShapePlan {
 const shapePlans = new Map<string, ShapePlan>();
 const MAX_SHAPES = 1_000;
 
+let lastPlan: ShapePlan | undefined;
+
+function sameKeys(plan: ShapePlan | undefined, keys: string[]): plan is ShapePlan {
+  return plan !== undefined && plan.own.length === keys.length && plan.own.every((k, i) => k === keys[i]);
+}
+
 function planFor(keys: string[]): ShapePlan {
+  // Bodies are mostly arrays of objects of one shape: try the last plan before building a signature.
+  if (sameKeys(lastPlan, keys)) return lastPlan;
+  lastPlan = planForSignature(keys);
+  return lastPlan;
+}
+
+function planForSignature(keys: string[]): ShapePlan {
   const signature = keys.join(',');
   const known = shapePlans.get(signature);
   // The signature is ambiguous (keys may contain commas): a plan is used only for the very same keys.
-  if (known && known.own.length === keys.length && known.own.every((k, i) => k === keys[i])) return known;
+  if (sameKeys(known, keys)) return known;
   const plan: ShapePlan = { own: keys, sorted: [...keys].sort().map((key) => ({ key, quoted: `${JSON.stringify(key)}:` })) };
   if (!known && shapePlans.size < MAX_SHAPES) shapePlans.set(signature, plan);
   return plan;

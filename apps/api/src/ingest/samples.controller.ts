@@ -3,9 +3,10 @@ import { ApiOkResponse, ApiOperation, ApiTags } from '@nestjs/swagger';
 import { SAMPLES_MAX_PER_REQUEST, SamplesPost, type SamplesReply } from '@ausline/contracts';
 import { Access } from '../auth/access.js';
 import { ApiErrors, ZodBody } from '../http/openapi.js';
-import { parseBody, UuidParam } from '../http/validation.js';
+import { UuidParam } from '../http/validation.js';
 import { Idempotent, IdempotencyClaimParam, type IdempotencyClaim } from './idempotency.js';
 import { countIngest } from './ingest-metrics.js';
+import { parseSamplesPost } from './samples-parse.js';
 import { SamplesService } from './samples.service.js';
 
 @ApiTags('ingest')
@@ -42,6 +43,7 @@ export class SamplesController {
   })
   @ApiErrors(400, 404, 409, 413, 422)
   post(@Param('id', UuidParam) equipmentId: string, @Body() body: unknown, @IdempotencyClaimParam() claim: IdempotencyClaim | undefined): Promise<SamplesReply> {
-    return countIngest('samples', () => this.samples.ingest(equipmentId, parseBody(SamplesPost, body), claim));
+    return countIngest('samples', () => this.samples.ingest(equipmentId, parseSamplesPost(body), claim));
   }
 }
+
