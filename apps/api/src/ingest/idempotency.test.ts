@@ -1,4 +1,5 @@
 import { describe, expect, it } from 'vitest';
+import { SeededRandom } from '@ausline/metallurgy';
 import { stableStringify } from './idempotency.js';
 
 /** The definition stableStringify had before it was rewritten for speed (issue 7): the fingerprints of stored keys must not change. */
@@ -12,15 +13,10 @@ function reference(value: unknown): string {
   return `{${entries.join(',')}}`;
 }
 
-/** Seeded xorshift, so a failure names the case that broke. */
+/** Seeded (libs/metallurgy's generator), so a failure names its case. */
 function rng(seed: number): () => number {
-  let x = Math.imul(seed, 2_654_435_761) >>> 0 || 1; // spread small seeds over the state
-  return () => {
-    x ^= x << 13;
-    x ^= x >>> 17;
-    x ^= x << 5;
-    return (x >>> 0) / 4_294_967_296;
-  };
+  const random = new SeededRandom(seed);
+  return () => random.nextUniform();
 }
 
 function randomValue(r: () => number, depth: number): unknown {

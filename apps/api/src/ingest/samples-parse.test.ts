@@ -1,16 +1,12 @@
 import { describe, expect, it } from 'vitest';
+import { SeededRandom } from '@ausline/metallurgy';
 import { SamplesPost } from '@ausline/contracts';
 import { commonShape, parseSamplesPost } from './samples-parse.js';
 
-/** Seeded xorshift, so a failure names its case. */
+/** Seeded (libs/metallurgy's generator), so a failure names its case. */
 function rng(seed: number): () => number {
-  let x = Math.imul(seed, 2_654_435_761) >>> 0 || 1; // spread small seeds over the state
-  return () => {
-    x ^= x << 13;
-    x ^= x >>> 17;
-    x ^= x << 5;
-    return (x >>> 0) / 4_294_967_296;
-  };
+  const random = new SeededRandom(seed);
+  return () => random.nextUniform();
 }
 
 const MIN = 946_684_800_000; // 2000-01-01 (the schema's bound)
