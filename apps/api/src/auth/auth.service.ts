@@ -56,8 +56,9 @@ export class AuthService implements OnModuleInit, OnApplicationShutdown {
     this.apiKeys = new ApiKeyCache(config.DATABASE_URL, config.LOG_LEVEL);
   }
 
-  async onModuleInit(): Promise<void> {
-    await this.apiKeys.start();
+  onModuleInit(): void {
+    // In the background: the api starts (and looks keys up uncached) even while Postgres is unreachable.
+    void this.apiKeys.start();
   }
 
   async onApplicationShutdown(): Promise<void> {

@@ -531,14 +531,10 @@ export class IdempotencyInterceptor implements NestInterceptor {
       throw answer;
     }
     return next.handle().pipe(
+      // (When the reply cannot be stored, the error goes to catchError below as a 500: the claim is
+      // abandoned, so a retry runs again.)
       mergeMap(async (body: unknown) => {
-        try {
-          await this.store.complete(claimed.id, response.statusCode, body);
-        } catch (error) {
-          // The work is done but its reply could not be stored: free the key so a retry runs again.
-          await this.store.abandon(claimed.id, claimed.claimedAt);
-          throw error;
-        }
+        await this.store.complete(claimed.id, response.statusCode, body);
         return body;
       }),
       catchError((error: unknown) =>
