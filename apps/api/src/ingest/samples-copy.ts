@@ -149,6 +149,33 @@ export const STORE_FROM_STAGING = {
     FROM counted c`,
 };
 
+/**
+ * The common case first: the rows COPYed straight into "Sample" (COPY inserts in batches, the cheapest
+ * way in). A row already stored ends it with a unique violation (SQLSTATE 23505); the transaction is
+ * then rolled back and the request runs again through the staging table (STORE_FROM_STAGING), which
+ * skips and counts duplicates.
+ */
+export const COPY_SAMPLE = `COPY "Sample" ("channelId", "t", "value") FROM STDIN (FORMAT binary)`;
+
+/**
+ * After COPY_SAMPLE stored every row: the batches covering them, and the stored reply for the claim.
+ * $1 line id, $2 samples stored, $3/$4 the first and last time, $5 the claim (or null).
+ */
+export const STORE_COPIED = {
+  name: 'ausline-samples-store-copied',
+  text: `WITH windows AS (
+      ${batchWindowsSql('$1')}
+    ), queued AS (
+      SELECT w."id" FROM windows w WHERE ${windowCoversSql('w', '$3::timestamptz', '$4::timestamptz')}
+    ), reply AS (
+      UPDATE "IdempotencyRecord" r SET "responseStatus" = 200, "responseBody" = jsonb_build_object(
+        'stored', $2::int, 'duplicates', 0, 'conflicts', 0, 'rejected', 0, 'batchesQueued', (SELECT count(*)::int FROM queued))
+      WHERE r."id" = $5::uuid
+      RETURNING r."id"
+    )
+    SELECT ARRAY(SELECT "id" FROM queued) AS "queued", (SELECT count(*)::int FROM reply) AS "replied"`,
+};
+
 // ---- binary COPY rows (uuid, timestamptz, float8) ---------------------------------------------------
 //
 // PostgreSQL docs, "COPY — Binary Format": an 11-byte signature, a 32-bit flags field and a 32-bit header

@@ -10,7 +10,7 @@ import { futureTimeIssue } from './device-time.js';
 import { claimedOrThrow, claimInTransaction, completeInTransaction, IdempotentReplay, type IdempotencyClaim } from './idempotency.js';
 import { ingestSettingsFrom } from './ingest-settings.js';
 import { RecomputeQueue } from './recompute-queue.js';
-import { binaryCopyRows, CLAIM_AND_EQUIPMENT, copyFromStdin, COPY_STAGING, CREATE_STAGING, STORE_FROM_STAGING, uuidBytes } from './samples-copy.js';
+import { binaryCopyRows, CLAIM_AND_EQUIPMENT, COPY_SAMPLE, copyFromStdin, COPY_STAGING, CREATE_STAGING, STORE_COPIED, STORE_FROM_STAGING, uuidBytes } from './samples-copy.js';
 
 /** Problems listed per refused request; the message says how many there were in all. */
 const MAX_ISSUES = 100;
@@ -43,6 +43,8 @@ interface Outcome {
  *
  * Each statement to Postgres is a round trip (and on a busy host a costly socket write), so a request is
  * BEGIN, claim + equipment, COPY, store (insert, counts, batches, reply), COMMIT: see samples-copy.ts.
+ * The rows are first COPYed straight into "Sample" (the cheapest insert); when one of them is stored
+ * already the transaction rolls back and the request runs again through the staging table.
  *
  * Recompute: after the commit, every batch of the line whose window covers the newly stored samples is
  * queued (`batchesQueued` counts them). A request that found duplicates also re-queues the batches
@@ -82,11 +84,26 @@ export class SamplesService implements OnApplicationShutdown {
   }
 
   async ingest(equipmentId: string, input: SamplesPost, claim?: IdempotencyClaim): Promise<SamplesReply> {
+    let outcome: Outcome;
+    try {
+      outcome = await this.transaction((client) => this.inTransaction(client, equipmentId, input, claim, 'direct'));
+    } catch (error) {
+      // Some row was stored already (a retry, an overlapping re-send): all again, through the staging table.
+      if (!isUniqueViolation(error)) throw error;
+      outcome = await this.transaction((client) => this.inTransaction(client, equipmentId, input, claim, 'staged'));
+    }
+    // Committed: the data is safe; the queue only carries work (a Redis failure marks the batches stale).
+    await this.recompute.enqueue(outcome.recompute, 'samples');
+    if ('replay' in outcome.answer) throw outcome.answer.replay;
+    return outcome.answer.reply;
+  }
+
+  /** Runs `work` in a transaction on a connection of the samples pool (with its staging table). */
+  private async transaction(work: (client: pg.PoolClient) => Promise<Outcome>): Promise<Outcome> {
     const client = await this.pool.connect();
     // A connection whose state is unknown (a failed BEGIN, COMMIT or ROLLBACK, a lost server) is
     // discarded instead of going back to the pool.
     let broken: Error | undefined;
-    let outcome: Outcome;
     let rolledBack = false;
     try {
       if (!this.staged.has(client)) {
@@ -94,8 +111,9 @@ export class SamplesService implements OnApplicationShutdown {
         this.staged.add(client);
       }
       await client.query('BEGIN');
+      let outcome: Outcome;
       try {
-        outcome = await this.inTransaction(client, equipmentId, input, claim);
+        outcome = await work(client);
       } catch (error) {
         await client.query('ROLLBACK').then(
           () => (rolledBack = true),
@@ -104,19 +122,16 @@ export class SamplesService implements OnApplicationShutdown {
         throw error;
       }
       await client.query('COMMIT');
+      return outcome;
     } catch (error) {
       if (!rolledBack) broken ??= asError(error);
       throw error;
     } finally {
       client.release(broken);
     }
-    // Committed: the data is safe; the queue only carries work (a Redis failure marks the batches stale).
-    await this.recompute.enqueue(outcome.recompute, 'samples');
-    if ('replay' in outcome.answer) throw outcome.answer.replay;
-    return outcome.answer.reply;
   }
 
-  private async inTransaction(client: pg.PoolClient, equipmentId: string, input: SamplesPost, claim?: IdempotencyClaim): Promise<Outcome> {
+  private async inTransaction(client: pg.PoolClient, equipmentId: string, input: SamplesPost, claim: IdempotencyClaim | undefined, mode: 'direct' | 'staged'): Promise<Outcome> {
     // Round trip 1: the claim (when there is a key) and the equipment with its channels.
     const { rows: equipmentRows } = await client.query<EquipmentRow>({
       ...CLAIM_AND_EQUIPMENT,
@@ -140,9 +155,24 @@ export class SamplesService implements OnApplicationShutdown {
     }
     const rows = this.checked(equipment, input);
 
-    // Round trip 2 (COPY): the rows into the staging table.
     const n = input.samples.length;
-    await copyFromStdin(client, COPY_STAGING, [binaryCopyRows(n, (i) => rows.channel[i]!, (i) => rows.tMs[i]!, (i) => input.samples[i]!.value)]);
+    const copyData = [binaryCopyRows(n, (i) => rows.channel[i]!, (i) => rows.tMs[i]!, (i) => input.samples[i]!.value)];
+    if (mode === 'direct' && !rows.repeatsKey) {
+      // Round trip 2 (COPY) straight into "Sample"; a duplicate ends it with 23505 (see ingest()).
+      await copyFromStdin(client, COPY_SAMPLE, copyData);
+      // Round trip 3: the batches to queue and the stored reply.
+      const copied = (
+        await client.query<{ queued: string[]; replied: number }>({
+          ...STORE_COPIED,
+          values: [equipment.lineId, n, new Date(rows.fromMs), new Date(rows.toMs), claimId],
+        })
+      ).rows[0]!;
+      if (claimId !== null && copied.replied !== 1) throw new Error(`the Idempotency-Key claim ${claimId} was not found to store the reply`);
+      ingestSamplesTotal.inc({ outcome: 'stored' }, n);
+      return { answer: { reply: { stored: n, duplicates: 0, conflicts: 0, rejected: 0, batchesQueued: copied.queued.length } }, recompute: copied.queued };
+    }
+    // Round trip 2 (COPY): the rows into the staging table.
+    await copyFromStdin(client, COPY_STAGING, copyData);
     // Round trip 3: into "Sample", with the counts, the batches to queue and the stored reply.
     const result = (
       await client.query<{ stored: number; conflicts: number; queued: string[]; requeued: string[]; replied: number }>({
@@ -177,6 +207,7 @@ export class SamplesService implements OnApplicationShutdown {
     let toMs = -Infinity;
     /** (channel, t) key -> index of the first sample with that key, to catch contradicting duplicates. */
     const firstIndexByKey = new Map<number, number>();
+    let repeatsKey = false;
 
     for (let i = 0; i < n; i++) {
       const sample = input.samples[i]!;
@@ -198,7 +229,8 @@ export class SamplesService implements OnApplicationShutdown {
       const key = known.index * CHANNEL_KEY_STRIDE + t;
       const first = firstIndexByKey.get(key);
       if (first === undefined) firstIndexByKey.set(key, i);
-      else if (input.samples[first]!.value !== sample.value) {
+      else if (input.samples[first]!.value === sample.value) repeatsKey = true;
+      else {
         addIssue({
           path: `samples.${i}.value`,
           message: `channel '${sample.channel}' at ${new Date(t).toISOString()} has value ${sample.value} here and ${input.samples[first]!.value} in samples.${first}`,
@@ -219,7 +251,7 @@ export class SamplesService implements OnApplicationShutdown {
         issues,
       );
     }
-    return { channel, tMs, fromMs, toMs };
+    return { channel, tMs, fromMs, toMs, repeatsKey };
   }
 }
 
@@ -251,6 +283,8 @@ interface CheckedRows {
   tMs: number[];
   fromMs: number;
   toMs: number;
+  /** Some (channel, t) occurs twice (with the same value): a COPY straight into "Sample" would fail. */
+  repeatsKey: boolean;
 }
 
 /** First and last time of a request (validated by the schema, so every t parses). */
@@ -263,6 +297,11 @@ function requestSpan(input: SamplesPost): { fromMs: number; toMs: number } | und
     if (t > toMs) toMs = t;
   }
   return Number.isFinite(fromMs) ? { fromMs, toMs } : undefined;
+}
+
+/** PostgreSQL's unique_violation (SQLSTATE 23505), as the pg driver reports it. */
+function isUniqueViolation(error: unknown): boolean {
+  return error instanceof Error && (error as { code?: unknown }).code === '23505';
 }
 
 function asError(error: unknown): Error {
