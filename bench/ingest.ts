@@ -12,10 +12,12 @@
  *     queue behind it);
  *  2. saturation: C controllers posting back to back (closed loop), B samples per request, for a fixed
  *     time: sustained samples/s and latency;
- *  3. baselines on the same table with the same rows: COPY "Sample" FROM STDIN (one stream, run before and
- *     after the api runs to bracket the machine's drift), and the api's own INSERT ... SELECT FROM unnest
- *     ... ON CONFLICT DO NOTHING sent straight through pg by C connections (no HTTP, auth, JSON or
- *     idempotency), which shows where the api's time goes.
+ *  3. baselines on the same table with the same rows: COPY "Sample" FROM STDIN (1 and 8 streams, run
+ *     before and after the api runs to bracket the machine's drift), and the api's own statements (binary
+ *     COPY straight into "Sample" and the batches to queue, one transaction per request; and its path for
+ *     a request with duplicates: COPY into its staging table, INSERT ... SELECT ... ON CONFLICT DO NOTHING)
+ *     sent straight through pg by C connections (no HTTP, auth, JSON or idempotency), which shows where
+ *     the api's time goes; and the statement the api sent before issue 7 (INSERT ... unnest ...).
  * Every request carries an Idempotency-Key (controllers retry with it) except in the row that says so;
  * every line has a batch in progress, so each post also finds its batch and queues a recompute (no worker
  * runs here: the queue only folds them by batch).
@@ -49,7 +51,7 @@ import {
   type BenchController,
   type ChildService,
 } from './support/harness.js';
-import { copyFromStdin } from './support/pg-copy.js';
+import { binaryCopyRows, COPY_SAMPLE, copyFromStdin, COPY_STAGING, CREATE_STAGING, STORE_COPIED, STORE_FROM_STAGING, uuidBytes } from '../apps/api/src/ingest/samples-copy.js';
 
 const LINES = 5;
 const CONTROLLERS_PER_LINE = 10;
@@ -57,7 +59,7 @@ const CHANNELS = 20;
 const PLANT_S = Number(process.env.BENCH_PLANT_S ?? 30);
 const SATURATION_S = Number(process.env.BENCH_SATURATION_S ?? 12);
 /** Requests prepared per saturation run are sized for this rate; running out is reported. */
-const PREPARED_RATE = 90_000;
+const PREPARED_RATE = 160_000;
 const GOAL_RATE = 50_000;
 /** A controller posting every second (20 samples/request) and one buffering 5 s (100 samples/request). */
 const PLANT_INTERVALS_S = [1, 5];
@@ -350,8 +352,11 @@ async function copyBaseline(pool: pg.Pool, controllers: BenchController[], prepa
   }
 }
 
-/** The statement apps/api/src/ingest/samples.service.ts sends, word for word. */
-const API_INSERT_SQL = `
+/**
+ * The statement the api sent before issue 7's rework (INSERT ... SELECT FROM unnest(text arrays) ... ON
+ * CONFLICT, with a second primary-key probe per row for the conflicts count), kept as a reference point.
+ */
+const PREVIOUS_API_INSERT_SQL = `
   WITH input AS (
     SELECT * FROM unnest($1::uuid[], $2::timestamptz[], $3::float8[]) AS s("channelId", "t", "value")
   ), inserted AS (
@@ -367,10 +372,39 @@ const API_INSERT_SQL = `
     (SELECT count(*) FROM input i JOIN "Sample" s ON s."channelId" = i."channelId" AND s."t" = i."t"
        WHERE s."value" IS DISTINCT FROM i."value")::int AS "conflicts"`;
 
-/** The same INSERT without the conflicts count (its join probes the primary key once more per row). */
-const API_INSERT_WITHOUT_CONFLICTS_SQL = API_INSERT_SQL.slice(0, API_INSERT_SQL.indexOf(',\n    (SELECT count(*) FROM input i JOIN'));
+/** Each controller's line id (the store statement finds the line's batches to queue). */
+const lineOf = new Map<string, string>();
 
-async function directInsert(pool: pg.Pool, controllers: BenchController[], prepared: Prepared, sql = API_INSERT_SQL, label = ''): Promise<PhaseResult> {
+/**
+ * One request's rows as the api stores them (without an Idempotency-Key), in one transaction: 'direct' is
+ * the common case (COPY straight into "Sample", then the batches to queue), 'staged' the path of a request
+ * with duplicates (COPY into the staging table, then INSERT ... SELECT ... ON CONFLICT with the counts).
+ */
+async function apiInsert(client: pg.PoolClient, c: BenchController, chunk: Chunk, how: 'direct' | 'staged'): Promise<number> {
+  const a = arraysOf(c, chunk);
+  const times = a.times.map((t) => Date.parse(t));
+  const channelBytes = new Map(c.channelIds.map((id) => [id, uuidBytes(id)]));
+  const rows = [binaryCopyRows(a.channelIds.length, (i) => channelBytes.get(a.channelIds[i]!)!, (i) => times[i]!, (i) => a.values[i]!)];
+  const values = [lineOf.get(c.equipmentId), times.length, new Date(Math.min(...times)), new Date(Math.max(...times)), null];
+  await client.query('BEGIN');
+  try {
+    let stored: number;
+    if (how === 'direct') {
+      stored = await copyFromStdin(client, COPY_SAMPLE, rows);
+      await client.query({ ...STORE_COPIED, values });
+    } else {
+      await copyFromStdin(client, COPY_STAGING, rows);
+      stored = (await client.query<{ stored: number }>({ ...STORE_FROM_STAGING, values })).rows[0]!.stored;
+    }
+    await client.query('COMMIT');
+    return stored;
+  } catch (error) {
+    await client.query('ROLLBACK');
+    throw error;
+  }
+}
+
+async function directInsert(pool: pg.Pool, controllers: BenchController[], prepared: Prepared, how: 'direct' | 'staged' | 'previous'): Promise<PhaseResult> {
   const latencies: number[] = [];
   let stored = 0;
   const out = await measure(null, () =>
@@ -378,12 +412,19 @@ async function directInsert(pool: pg.Pool, controllers: BenchController[], prepa
       prepared.perLoop.map(async (queue) => {
         const client = await pool.connect();
         try {
+          await client.query(CREATE_STAGING);
           for (const r of queue) {
-            const a = arraysOf(controllers[r.c]!, r.chunk);
             const t0 = performance.now();
-            const res = await client.query<{ stored: number }>(sql, [a.channelIds, a.times, a.values]);
+            // (Awaited first, then added: `stored += await ...` would read `stored` before the await and lose the other loops' counts.)
+            const n =
+              how !== 'previous'
+                ? await apiInsert(client, controllers[r.c]!, r.chunk, how)
+                : await (async () => {
+                    const a = arraysOf(controllers[r.c]!, r.chunk);
+                    return (await client.query<{ stored: number }>(PREVIOUS_API_INSERT_SQL, [a.channelIds, a.times, a.values])).rows[0]!.stored;
+                  })();
+            stored += n;
             latencies.push(performance.now() - t0);
-            stored += res.rows[0]!.stored;
           }
         } finally {
           client.release();
@@ -392,7 +433,11 @@ async function directInsert(pool: pg.Pool, controllers: BenchController[], prepa
     ),
   );
   return {
-    name: `the api's INSERT…unnest…ON CONFLICT${label} via pg, ${prepared.config.concurrency} connections × ${fmt(prepared.config.perRequest, 0)} rows (no HTTP)`,
+    name: {
+      direct: `the api's statements via pg (binary COPY into "Sample" + batches, 1 transaction), ${prepared.config.concurrency} connections × ${fmt(prepared.config.perRequest, 0)} rows (no HTTP)`,
+      staged: `the api's duplicate path via pg (binary COPY to staging + INSERT…SELECT…ON CONFLICT), ${prepared.config.concurrency} × ${fmt(prepared.config.perRequest, 0)} rows`,
+      previous: `the previous api statement (INSERT…unnest…ON CONFLICT + conflicts count) via pg, ${prepared.config.concurrency} × ${fmt(prepared.config.perRequest, 0)} rows`,
+    }[how],
     samples: stored,
     requests: latencies.length,
     errors: 0,
@@ -480,11 +525,14 @@ async function main(): Promise<void> {
       copyAfter.push(await copyBaseline(pool, controllers, copyRows, streams, 'after the api runs'));
       await truncate();
     }
-    const direct = await directInsert(pool, controllers, copyRows);
+    for (const r of (await pool.query<{ id: string; lineId: string }>('SELECT "id", "lineId" FROM "Equipment"')).rows) lineOf.set(r.id, r.lineId);
+    const direct = await directInsert(pool, controllers, copyRows, 'direct');
     await truncate();
-    const directLean = await directInsert(pool, controllers, copyRows, API_INSERT_WITHOUT_CONFLICTS_SQL, ' without the conflicts count');
+    const staged = await directInsert(pool, controllers, copyRows, 'staged');
     await truncate();
-    results.push(...copyBefore, ...copyAfter, direct, directLean);
+    const previous = await directInsert(pool, controllers, copyRows, 'previous');
+    await truncate();
+    results.push(...copyBefore, ...copyAfter, direct, staged, previous);
 
     const after = await machineInfo();
     const rate = (r: PhaseResult) => r.samples / r.seconds;

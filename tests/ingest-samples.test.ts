@@ -286,7 +286,8 @@ describe('samples: recompute of the batches they touch', () => {
     // Hours before the load was charged: no batch of this line covers it.
     const before = await http.post(samplesPath, { samples: [{ channel: 'tc1', t: charged! - 3 * 3_600_000, value: 300 }] }, bathKey.headers);
     expect(before.body).toMatchObject({ stored: 1, batchesQueued: 0 });
-    // A pure retry stores nothing and queues nothing.
+    // A pure retry stores nothing and counts no batch as queued (it re-queues the covering batch, in case an
+    // earlier attempt stored the rows and died before queueing; the queue folds that into the job above).
     const retry = await http.post(samplesPath, { samples: [0, 1, 2].map((i) => ({ channel: 'tc1', t: charged! + 30_000 + i * 1000, value: 370 })) }, bathKey.headers);
     expect(retry.body).toMatchObject({ stored: 0, batchesQueued: 0 });
     const row = await world.db.prisma.batch.findUniqueOrThrow({ where: { id: batch.id } });

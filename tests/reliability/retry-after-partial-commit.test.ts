@@ -1,5 +1,6 @@
 /**
- * KNOWN GAP, pinned (coord/requests.md, R1 item 3; docs/reliability.md, weakness 2).
+ * Was a KNOWN GAP (coord/requests.md, R1 item 3; docs/reliability.md, weakness 2), pinned with `it.fails`
+ * until the ingest path re-queued the covering batches on a request with duplicates (issue 7).
  *
  * A controller posts the last readings of a finished load. The api commits the rows, then dies (or loses
  * Postgres) before it queues the batch's recompute. The controller retries the same request: every
@@ -8,10 +9,8 @@
  * Its stored result then misses those readings for good.
  *
  * The first attempt's commit-then-crash is simulated by writing its rows straight to the database; the
- * retry goes through the real api. The last test states what should hold and is marked `it.fails` while
- * the gap is open: when the ingest path is fixed it starts passing, vitest reports that as a failure, and
- * `it.fails` must become `it`. The preconditions are checked in plain tests, so the marked one cannot pass
- * for a wrong reason.
+ * retry goes through the real api. The last test states what must hold; the preconditions are checked in
+ * plain tests, so it cannot pass for a wrong reason.
  */
 import { Queue } from 'bullmq';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
@@ -72,8 +71,7 @@ describe('a retry after a committed but never queued first attempt', () => {
     expect(staleBeforeRetry).toBe(false);
   });
 
-  // Remove `.fails` once the ingest path queues (or marks stale) the covering batches on such a retry.
-  it.fails('gets the finished batch queued for a recompute or marked stale', () => {
+  it('gets the finished batch queued for a recompute or marked stale', () => {
     expect(queuedAfterRetry !== undefined || staleAfterRetry).toBe(true);
   });
 });

@@ -12,8 +12,8 @@ import { z } from 'zod';
 // ---------------------------------------------------------------------------------------------
 
 /** Device times must lie in 2000-01-01 .. 2100-01-01 (UTC), whichever way they are written. */
-const DEVICE_TIME_MIN_MS = 946_684_800_000;
-const DEVICE_TIME_MAX_MS = 4_102_444_800_000;
+export const DEVICE_TIME_MIN_MS = 946_684_800_000;
+export const DEVICE_TIME_MAX_MS = 4_102_444_800_000;
 
 /**
  * Instant as sent by a device: ISO 8601 with offset ('Z' or '+01:00') or epoch milliseconds.

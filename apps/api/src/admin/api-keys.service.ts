@@ -4,6 +4,7 @@ import type { PrismaClient } from '@ausline/db';
 import { newApiKey } from '../auth/secrets.js';
 import { badRequest, conflict, notFound } from '../http/errors.js';
 import { InjectPrisma } from '../prisma.provider.js';
+import { forgetCachedApiKeys } from '../auth/api-key-cache.js';
 
 export interface ApiKeyView {
   id: string;
@@ -94,6 +95,7 @@ export class ApiKeysService {
   /** Revokes a key (from the next request on it is unknown). Repeating it keeps the first revocation time. */
   async revoke(id: string): Promise<ApiKeyView> {
     await this.prisma.apiKey.updateMany({ where: { id, revokedAt: null }, data: { revokedAt: new Date() } });
+    forgetCachedApiKeys(); // other api instances forget on the database's notification
     const row = await this.prisma.apiKey.findUnique({ where: { id }, include: keyInclude });
     if (!row) throw notFound(`No API key with id ${id}`);
     return view(row);

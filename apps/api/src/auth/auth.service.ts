@@ -1,9 +1,10 @@
-import { Injectable } from '@nestjs/common';
+import { Injectable, type OnApplicationShutdown, type OnModuleInit } from '@nestjs/common';
 import type { PrismaClient } from '@ausline/db';
 import { InjectApiConfig, type ApiConfig } from '../app-config.js';
 import { unauthorized } from '../http/errors.js';
 import { InjectPrisma } from '../prisma.provider.js';
 import type { Principal, Role } from './access.js';
+import { ApiKeyCache } from './api-key-cache.js';
 import {
   constantTimeEqualHex,
   decoyPasswordHash,
@@ -44,11 +45,25 @@ const userSelect = { id: true, email: true, displayName: true, roles: true, acti
  * from then on. Error messages never say whether an e-mail address exists.
  */
 @Injectable()
-export class AuthService {
+export class AuthService implements OnModuleInit, OnApplicationShutdown {
+  /** Principals of keys that authenticated, forgotten on every change to a key (see ApiKeyCache). */
+  private readonly apiKeys: ApiKeyCache;
+
   constructor(
     @InjectPrisma() private readonly prisma: PrismaClient,
     @InjectApiConfig() private readonly config: ApiConfig,
-  ) {}
+  ) {
+    this.apiKeys = new ApiKeyCache(config.DATABASE_URL, config.LOG_LEVEL);
+  }
+
+  onModuleInit(): void {
+    // In the background: the api starts (and looks keys up uncached) even while Postgres is unreachable.
+    void this.apiKeys.start();
+  }
+
+  async onApplicationShutdown(): Promise<void> {
+    await this.apiKeys.stop();
+  }
 
   async login(email: string, password: string): Promise<IssuedSession> {
     const user = await this.prisma.user.findUnique({ where: { email: normalizeEmail(email) } });
@@ -109,6 +124,11 @@ export class AuthService {
   async authenticateApiKey(key: string): Promise<Principal | undefined> {
     const parts = splitApiKey(key);
     if (!parts) return undefined;
+    // Cached by a digest of the whole key, so only the exact key that authenticated ever hits.
+    return this.apiKeys.get(sha256Hex(key), () => this.lookUpApiKey(parts));
+  }
+
+  private async lookUpApiKey(parts: { prefix: string; secret: string }): Promise<Principal | undefined> {
     const row = await this.prisma.apiKey.findUnique({
       where: { prefix: parts.prefix },
       include: { equipment: { select: { equipmentId: true } } },

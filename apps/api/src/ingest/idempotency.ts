@@ -1,6 +1,7 @@
 import { createHash } from 'node:crypto';
 import {
   applyDecorators,
+  createParamDecorator,
   Inject,
   Injectable,
   SetMetadata,
@@ -8,6 +9,7 @@ import {
   type CallHandler,
   type ExecutionContext,
   type NestInterceptor,
+  type OnApplicationShutdown,
 } from '@nestjs/common';
 import { Reflector } from '@nestjs/core';
 import { ApiHeader } from '@nestjs/swagger';
@@ -37,8 +39,16 @@ import { ingestSettingsFrom } from './ingest-settings.js';
  *   returned again (header `Idempotent-Replayed: true`).
  * - Same key, different request: 422.
  * - Same key while the first request is still being processed: 409 (retry later). A first request that
- *   died half-way (crash) is taken over after IN_FLIGHT_TAKEOVER_MS; the writes behind it are
- *   idempotent on their own (samples by (channel, t)), so processing again is safe.
+ *   failed (a 5xx, e.g. Postgres went away half-way) releases its claim; when the release itself cannot
+ *   reach Postgres, this process keeps retrying it in the background and lets the next attempt of the
+ *   same key take the claim over at once, so a retry after an outage is processed as soon as Postgres
+ *   is back (not after IN_FLIGHT_TAKEOVER_MS). A first request whose process died (crash) is taken over
+ *   after IN_FLIGHT_TAKEOVER_MS; the writes behind it are idempotent on their own (samples by
+ *   (channel, t)), so processing again is safe.
+ * - Handlers marked @Idempotent(kind, { inTransaction: true }) (samples) claim the key inside their own
+ *   write transaction (claimInTransaction / completeInTransaction below): the claim commits or rolls back
+ *   with the writes, so it cannot outlive a failed attempt at all, and a concurrent attempt with the same
+ *   key waits for the first to finish and then gets its reply.
  * - Keys expire after IDEMPOTENCY_TTL_H hours (default 24).
  */
 export const IDEMPOTENCY_HEADER = 'Idempotency-Key';
@@ -99,15 +109,70 @@ function parseStructuredString(text: string): string | undefined {
   return out;
 }
 
-/** JSON with object keys sorted at every level, so key order does not change a request's identity. */
+/**
+ * JSON with object keys sorted at every level, so key order does not change a request's identity.
+ * (Undefined object members are left out, as JSON.stringify does; anything JSON cannot say is null.)
+ * Built in one pass into one string, with the sorted key order of each object shape worked out once: a
+ * 10,000-sample body is hashed on every request that carries a key.
+ */
 export function stableStringify(value: unknown): string {
-  if (value === null || typeof value !== 'object') return JSON.stringify(value) ?? 'null';
-  if (Array.isArray(value)) return `[${value.map(stableStringify).join(',')}]`;
-  const entries = Object.keys(value as Record<string, unknown>)
-    .sort()
-    .filter((k) => (value as Record<string, unknown>)[k] !== undefined)
-    .map((k) => `${JSON.stringify(k)}:${stableStringify((value as Record<string, unknown>)[k])}`);
-  return `{${entries.join(',')}}`;
+  return appendStable('', value);
+}
+
+/** An object shape's keys in their own order, and in sorted order with each key already quoted. */
+interface ShapePlan {
+  own: string[];
+  sorted: Array<{ key: string; quoted: string }>;
+}
+const shapePlans = new Map<string, ShapePlan>();
+const MAX_SHAPES = 1_000;
+
+let lastPlan: ShapePlan | undefined;
+
+function sameKeys(plan: ShapePlan | undefined, keys: string[]): plan is ShapePlan {
+  return plan !== undefined && plan.own.length === keys.length && plan.own.every((k, i) => k === keys[i]);
+}
+
+function planFor(keys: string[]): ShapePlan {
+  // Bodies are mostly arrays of objects of one shape: try the last plan before building a signature.
+  if (sameKeys(lastPlan, keys)) return lastPlan;
+  lastPlan = planForSignature(keys);
+  return lastPlan;
+}
+
+function planForSignature(keys: string[]): ShapePlan {
+  const signature = keys.join(',');
+  const known = shapePlans.get(signature);
+  // The signature is ambiguous (keys may contain commas): a plan is used only for the very same keys.
+  if (sameKeys(known, keys)) return known;
+  const plan: ShapePlan = { own: keys, sorted: [...keys].sort().map((key) => ({ key, quoted: `${JSON.stringify(key)}:` })) };
+  if (!known && shapePlans.size < MAX_SHAPES) shapePlans.set(signature, plan);
+  return plan;
+}
+
+function appendStable(out: string, value: unknown): string {
+  if (typeof value === 'number') return out + (Number.isFinite(value) ? String(value) : 'null');
+  if (value === null || typeof value !== 'object') return out + (JSON.stringify(value) ?? 'null');
+  if (Array.isArray(value)) {
+    out += '[';
+    for (let i = 0; i < value.length; i++) {
+      if (i > 0) out += ',';
+      out = appendStable(out, value[i]);
+    }
+    return out + ']';
+  }
+  const record = value as Record<string, unknown>;
+  const { sorted } = planFor(Object.keys(record));
+  out += '{';
+  let first = true;
+  for (const { key, quoted } of sorted) {
+    const v = record[key];
+    if (v === undefined) continue;
+    if (!first) out += ',';
+    first = false;
+    out = appendStable(out + quoted, v);
+  }
+  return out + '}';
 }
 
 export function requestFingerprint(method: string, path: string, body: unknown): string {
@@ -119,15 +184,144 @@ export function principalScope(principal: Principal): string {
 }
 
 export type IdempotencyBegin =
-  | { kind: 'new'; id: string }
+  | { kind: 'new'; id: string; claimedAt: Date }
   | { kind: 'replay'; status: number; body: unknown }
   | { kind: 'mismatch' }
   | { kind: 'in-flight' };
 
+/** Who claims which key for which request: what a handler claiming in its own transaction is given. */
+export interface IdempotencyClaim {
+  principal: string;
+  key: string;
+  requestHash: string;
+}
+
+/** The part of a pg client (pg.PoolClient) the in-transaction claim needs. */
+export interface PgQueryable {
+  query<R extends object = Record<string, unknown>>(text: string, values?: unknown[]): Promise<{ rows: R[] }>;
+}
+
+/**
+ * Thrown by a handler that claims in its own transaction when the key already has a stored reply: the
+ * interceptor answers with that reply (header Idempotent-Replayed: true) instead of an error.
+ */
+export class IdempotentReplay extends Error {
+  constructor(
+    readonly status: number,
+    readonly body: unknown,
+  ) {
+    super('idempotent replay');
+    this.name = 'IdempotentReplay';
+  }
+}
+
+/**
+ * What to answer when a claim was not granted: throws the replay, the 422 (same key, another request)
+ * or the 409 (still in flight); returns the claimed record when it was.
+ */
+export function claimedOrThrow(begun: IdempotencyBegin): { id: string; claimedAt: Date } {
+  switch (begun.kind) {
+    case 'new':
+      return { id: begun.id, claimedAt: begun.claimedAt };
+    case 'replay':
+      throw new IdempotentReplay(begun.status, begun.body);
+    case 'mismatch':
+      throw unprocessable(`${IDEMPOTENCY_HEADER} was already used with a different request; use a new key for a new request`, [
+        { path: HEADER_PATH, message: 'key reused with a different payload' },
+      ]);
+    case 'in-flight':
+      throw conflict(`A request with this ${IDEMPOTENCY_HEADER} is still being processed; retry later`, [
+        { path: HEADER_PATH, message: 'original request still in progress' },
+      ]);
+  }
+}
+
+interface ExistingRecord {
+  id: string;
+  requestHash: string;
+  responseStatus: number | null;
+  responseBody: unknown;
+  createdAt: Date;
+  expired: boolean;
+  abandoned: boolean;
+}
+
+/** What an existing record means for a new attempt; 'expired' and 'abandoned' ask the caller to act. */
+function judgeExisting(existing: ExistingRecord, requestHash: string): IdempotencyBegin | 'expired' | 'abandoned' {
+  if (existing.expired) return 'expired';
+  if (existing.requestHash !== requestHash) return { kind: 'mismatch' };
+  if (existing.responseStatus !== null) return { kind: 'replay', status: existing.responseStatus, body: existing.responseBody };
+  return existing.abandoned ? 'abandoned' : { kind: 'in-flight' };
+}
+
+/**
+ * Claims the key inside the caller's open transaction (raw pg client). The claim row is written by the
+ * transaction, so it commits with the request's writes (and its reply, completeInTransaction) or not at
+ * all: a failed attempt leaves no claim behind. A concurrent attempt with the same key waits on the
+ * unique index until this transaction ends, then sees its reply. Committed claims without a reply (an
+ * attempt through the interceptor's own claim whose process died) are taken over after
+ * IN_FLIGHT_TAKEOVER_MS, as in IdempotencyStore.begin.
+ */
+export async function claimInTransaction(db: PgQueryable, claim: IdempotencyClaim, ttlMs: number): Promise<IdempotencyBegin> {
+  for (let attempt = 0; attempt < 3; attempt++) {
+    const inserted = await db.query<{ id: string; createdAt: Date }>(
+      `INSERT INTO "IdempotencyRecord" ("principal", "key", "requestHash", "expiresAt")
+       VALUES ($1, $2, $3, now() + $4 * interval '1 millisecond')
+       ON CONFLICT ("principal", "key") DO NOTHING
+       RETURNING "id", "createdAt"`,
+      [claim.principal, claim.key, claim.requestHash, ttlMs],
+    );
+    if (inserted.rows[0]) return { kind: 'new', id: inserted.rows[0].id, claimedAt: inserted.rows[0].createdAt };
+    const { rows } = await db.query<ExistingRecord>(
+      `SELECT "id", "requestHash", "responseStatus", "responseBody", "createdAt",
+              "expiresAt" < now() AS "expired",
+              "createdAt" < now() - $3 * interval '1 millisecond' AS "abandoned"
+       FROM "IdempotencyRecord" WHERE "principal" = $1 AND "key" = $2
+       FOR UPDATE`,
+      [claim.principal, claim.key, IN_FLIGHT_TAKEOVER_MS],
+    );
+    const existing = rows[0];
+    if (!existing) continue; // deleted meanwhile: claim it again
+    const judged = judgeExisting(existing, claim.requestHash);
+    if (judged === 'expired') {
+      await db.query(`DELETE FROM "IdempotencyRecord" WHERE "id" = $1::uuid`, [existing.id]);
+      continue;
+    }
+    if (judged === 'abandoned') {
+      // The row is locked by this transaction (FOR UPDATE): take it over.
+      const taken = await db.query<{ createdAt: Date }>(`UPDATE "IdempotencyRecord" SET "createdAt" = now() WHERE "id" = $1::uuid RETURNING "createdAt"`, [
+        existing.id,
+      ]);
+      return { kind: 'new', id: existing.id, claimedAt: taken.rows[0]!.createdAt };
+    }
+    return judged;
+  }
+  return { kind: 'in-flight' };
+}
+
+/** Stores the reply of a claim made by claimInTransaction, in the same transaction. */
+export async function completeInTransaction(db: PgQueryable, id: string, status: number, body: unknown): Promise<void> {
+  await db.query(`UPDATE "IdempotencyRecord" SET "responseStatus" = $2, "responseBody" = $3::jsonb WHERE "id" = $1::uuid`, [
+    id,
+    status,
+    JSON.stringify(body ?? null),
+  ]);
+}
+
+/** How often a claim whose release failed (Postgres away) is tried again, and for how long. */
+const RELEASE_RETRY_MS = 1_000;
+
 @Injectable()
-export class IdempotencyStore {
+export class IdempotencyStore implements OnApplicationShutdown {
   private readonly ttlMs: number;
   private lastCleanupAt = 0;
+  /**
+   * Claims of this process whose attempt failed but whose release did not reach Postgres: id → the
+   * claim's createdAt. The next attempt of the same key takes such a claim over at once (no request
+   * is working under it any more), and a timer keeps trying to release it meanwhile.
+   */
+  private readonly failedClaims = new Map<string, Date>();
+  private releaseTimer: NodeJS.Timeout | undefined;
 
   constructor(
     @InjectPrisma() private readonly prisma: PrismaClient,
@@ -136,40 +330,49 @@ export class IdempotencyStore {
     this.ttlMs = ingestSettingsFrom(config).idempotencyTtlMs;
   }
 
+  get idempotencyTtlMs(): number {
+    return this.ttlMs;
+  }
+
   /** Claims the key for this request, or says what to answer instead. */
   async begin(principal: string, key: string, requestHash: string): Promise<IdempotencyBegin> {
     this.cleanupSometimes();
     for (let attempt = 0; attempt < 3; attempt++) {
-      const inserted = await this.prisma.$queryRaw<Array<{ id: string }>>`
+      const inserted = await this.prisma.$queryRaw<Array<{ id: string; createdAt: Date }>>`
         INSERT INTO "IdempotencyRecord" ("principal", "key", "requestHash", "expiresAt")
         VALUES (${principal}, ${key}, ${requestHash}, now() + ${this.ttlMs} * interval '1 millisecond')
         ON CONFLICT ("principal", "key") DO NOTHING
-        RETURNING "id"`;
-      if (inserted[0]) return { kind: 'new', id: inserted[0].id };
+        RETURNING "id", "createdAt"`;
+      if (inserted[0]) return { kind: 'new', id: inserted[0].id, claimedAt: inserted[0].createdAt };
 
-      const rows = await this.prisma.$queryRaw<
-        Array<{ id: string; requestHash: string; responseStatus: number | null; responseBody: unknown; expired: boolean; abandoned: boolean }>
-      >`
-        SELECT "id", "requestHash", "responseStatus", "responseBody",
+      const rows = await this.prisma.$queryRaw<ExistingRecord[]>`
+        SELECT "id", "requestHash", "responseStatus", "responseBody", "createdAt",
                "expiresAt" < now() AS "expired",
                "createdAt" < now() - ${IN_FLIGHT_TAKEOVER_MS} * interval '1 millisecond' AS "abandoned"
         FROM "IdempotencyRecord" WHERE "principal" = ${principal} AND "key" = ${key}`;
       const existing = rows[0];
       if (!existing) continue; // deleted between the two statements: try to claim it again
-      if (existing.expired) {
+      let judged = judgeExisting(existing, requestHash);
+      if (judged === 'expired') {
         await this.prisma.$executeRaw`DELETE FROM "IdempotencyRecord" WHERE "id" = ${existing.id}::uuid AND "expiresAt" < now()`;
         continue;
       }
-      if (existing.requestHash !== requestHash) return { kind: 'mismatch' };
-      if (existing.responseStatus !== null) return { kind: 'replay', status: existing.responseStatus, body: existing.responseBody };
-      if (existing.abandoned) {
-        const taken = await this.prisma.$executeRaw`
+      const ownFailed = this.failedClaims.get(existing.id);
+      if (judged !== 'abandoned' && judged.kind === 'in-flight' && ownFailed?.getTime() === existing.createdAt.getTime()) judged = 'abandoned';
+      if (judged === 'abandoned') {
+        // Either the claim is older than IN_FLIGHT_TAKEOVER_MS (its process died), or it is one of this
+        // process's own failed attempts: take it over unless someone else did first (createdAt moves).
+        const taken = await this.prisma.$queryRaw<Array<{ createdAt: Date }>>`
           UPDATE "IdempotencyRecord" SET "createdAt" = now()
-          WHERE "id" = ${existing.id}::uuid AND "responseStatus" IS NULL
-            AND "createdAt" < now() - ${IN_FLIGHT_TAKEOVER_MS} * interval '1 millisecond'`;
-        if (taken === 1) return { kind: 'new', id: existing.id };
+          WHERE "id" = ${existing.id}::uuid AND "responseStatus" IS NULL AND "createdAt" = ${existing.createdAt}
+          RETURNING "createdAt"`;
+        if (taken[0]) {
+          this.failedClaims.delete(existing.id);
+          return { kind: 'new', id: existing.id, claimedAt: taken[0].createdAt };
+        }
+        continue;
       }
-      return { kind: 'in-flight' };
+      return judged;
     }
     return { kind: 'in-flight' };
   }
@@ -183,6 +386,57 @@ export class IdempotencyStore {
   /** Releases the key: the outcome is not one to replay. */
   async release(id: string): Promise<void> {
     await this.prisma.$executeRaw`DELETE FROM "IdempotencyRecord" WHERE "id" = ${id}::uuid`;
+  }
+
+  /**
+   * The attempt under this claim failed and its outcome is not stored: release the claim. When Postgres
+   * cannot be reached (the usual reason for the failure), remember the claim so that the next attempt
+   * takes it over at once, and keep trying to release it in the background. Never throws.
+   */
+  async abandon(id: string, claimedAt: Date): Promise<void> {
+    try {
+      await this.releaseIfUnchanged(id, claimedAt);
+    } catch {
+      this.failedClaims.set(id, claimedAt);
+      this.scheduleReleases();
+    }
+  }
+
+  private async releaseIfUnchanged(id: string, claimedAt: Date): Promise<void> {
+    // Only while nobody has taken the claim over (createdAt moves) or completed it.
+    await this.prisma.$executeRaw`
+      DELETE FROM "IdempotencyRecord" WHERE "id" = ${id}::uuid AND "createdAt" = ${claimedAt} AND "responseStatus" IS NULL`;
+  }
+
+  private scheduleReleases(): void {
+    if (this.releaseTimer) return;
+    this.releaseTimer = setTimeout(() => {
+      this.releaseTimer = undefined;
+      void this.retryReleases();
+    }, RELEASE_RETRY_MS);
+    this.releaseTimer.unref();
+  }
+
+  private async retryReleases(): Promise<void> {
+    for (const [id, claimedAt] of [...this.failedClaims]) {
+      // Past the takeover age any attempt takes the claim over anyway: stop trying.
+      if (Date.now() - claimedAt.getTime() > IN_FLIGHT_TAKEOVER_MS) {
+        this.failedClaims.delete(id);
+        continue;
+      }
+      try {
+        await this.releaseIfUnchanged(id, claimedAt);
+        if (this.failedClaims.get(id) === claimedAt) this.failedClaims.delete(id);
+      } catch {
+        break; // still unreachable: try again later
+      }
+    }
+    if (this.failedClaims.size > 0) this.scheduleReleases();
+  }
+
+  onApplicationShutdown(): void {
+    if (this.releaseTimer) clearTimeout(this.releaseTimer);
+    this.releaseTimer = undefined;
   }
 
   private cleanupSometimes(): void {
@@ -201,6 +455,7 @@ interface HttpRequestLike {
   rawHeaders?: string[];
   body?: unknown;
   [PRINCIPAL_PROPERTY]?: Principal;
+  [CLAIM_PROPERTY]?: IdempotencyClaim;
 }
 
 interface HttpResponseLike {
@@ -215,6 +470,14 @@ function isReplayable(status: number): boolean {
 }
 
 const INGEST_KIND_METADATA = 'ausline:ingest-kind';
+const IN_TRANSACTION_METADATA = 'ausline:idempotency-in-transaction';
+/** The request property where a handler that claims in its own transaction finds its claim. */
+const CLAIM_PROPERTY = 'idempotencyClaim';
+
+/** `@IdempotencyClaimParam() claim` — the claim for a handler marked { inTransaction: true }, or undefined without a key. */
+export const IdempotencyClaimParam = createParamDecorator(
+  (_data: unknown, ctx: ExecutionContext): IdempotencyClaim | undefined => ctx.switchToHttp().getRequest<HttpRequestLike>()[CLAIM_PROPERTY],
+);
 
 @Injectable()
 export class IdempotencyInterceptor implements NestInterceptor {
@@ -232,54 +495,87 @@ export class IdempotencyInterceptor implements NestInterceptor {
     if (key === undefined || principal === undefined) return next.handle();
 
     const fingerprint = requestFingerprint(request.method, pathOnly(request.originalUrl ?? request.url), request.body);
-    const begun = await this.store.begin(principalScope(principal), key, fingerprint);
-    switch (begun.kind) {
-      case 'mismatch':
-        throw unprocessable(`${IDEMPOTENCY_HEADER} was already used with a different request; use a new key for a new request`, [
-          { path: HEADER_PATH, message: 'key reused with a different payload' },
-        ]);
-      case 'in-flight':
-        throw conflict(`A request with this ${IDEMPOTENCY_HEADER} is still being processed; retry later`, [
-          { path: HEADER_PATH, message: 'original request still in progress' },
-        ]);
-      case 'replay': {
-        const kind = this.reflector.get<IngestKind | undefined>(INGEST_KIND_METADATA, context.getHandler());
-        if (kind) ingestRequestsTotal.inc({ kind, outcome: 'duplicate' });
-        response.setHeader('Idempotent-Replayed', 'true');
-        if (begun.status >= 400) {
-          const stored = (begun.body ?? {}) as { message?: string; issues?: Array<{ path: string; message: string }> };
-          throw new ApiError(begun.status, stored.message ?? 'Replayed error', stored.issues ?? []);
-        }
-        response.status(begun.status);
-        return of(begun.body);
-      }
-      case 'new':
-        break;
+    const scope = principalScope(principal);
+    if (this.reflector.get<boolean | undefined>(IN_TRANSACTION_METADATA, context.getHandler())) {
+      // The handler claims in its own transaction; here only the replies it cannot store itself: a
+      // replay it found, and a 400 thrown before its transaction (the payload can never succeed).
+      request[CLAIM_PROPERTY] = { principal: scope, key, requestHash: fingerprint };
+      return next.handle().pipe(
+        catchError((error: unknown) =>
+          from(
+            (async () => {
+              if (error instanceof IdempotentReplay) return this.replay(context, response, error);
+              const { body } = toErrorBody(error);
+              if (body.statusCode === 400) {
+                let claimed: { id: string; claimedAt: Date };
+                try {
+                  claimed = claimedOrThrow(await this.store.begin(scope, key, fingerprint));
+                } catch (answer) {
+                  if (answer instanceof IdempotentReplay) return this.replay(context, response, answer);
+                  throw answer;
+                }
+                await this.store.complete(claimed.id, 400, body);
+              }
+              throw error;
+            })(),
+          ),
+        ),
+      );
     }
-    const recordId = begun.id;
+
+    let claimed: { id: string; claimedAt: Date };
+    try {
+      claimed = claimedOrThrow(await this.store.begin(scope, key, fingerprint));
+    } catch (answer) {
+      if (answer instanceof IdempotentReplay) return of(this.replay(context, response, answer));
+      throw answer;
+    }
     return next.handle().pipe(
+      // (When the reply cannot be stored, the error goes to catchError below as a 500: the claim is
+      // abandoned, so a retry runs again.)
       mergeMap(async (body: unknown) => {
-        await this.store.complete(recordId, response.statusCode, body);
+        await this.store.complete(claimed.id, response.statusCode, body);
         return body;
       }),
       catchError((error: unknown) =>
         from(
           (async () => {
             const { body } = toErrorBody(error);
-            if (isReplayable(body.statusCode)) await this.store.complete(recordId, body.statusCode, body);
-            else await this.store.release(recordId);
+            if (isReplayable(body.statusCode)) {
+              try {
+                await this.store.complete(claimed.id, body.statusCode, body);
+              } catch {
+                await this.store.abandon(claimed.id, claimed.claimedAt);
+              }
+            } else {
+              await this.store.abandon(claimed.id, claimed.claimedAt);
+            }
             throw error;
           })(),
         ),
       ),
     );
   }
+
+  /** Answers with a stored reply (a stored error is thrown again as it was). */
+  private replay(context: ExecutionContext, response: HttpResponseLike, replay: IdempotentReplay): unknown {
+    const kind = this.reflector.get<IngestKind | undefined>(INGEST_KIND_METADATA, context.getHandler());
+    if (kind) ingestRequestsTotal.inc({ kind, outcome: 'duplicate' });
+    response.setHeader('Idempotent-Replayed', 'true');
+    if (replay.status >= 400) {
+      const stored = (replay.body ?? {}) as { message?: string; issues?: Array<{ path: string; message: string }> };
+      throw new ApiError(replay.status, stored.message ?? 'Replayed error', stored.issues ?? []);
+    }
+    response.status(replay.status);
+    return replay.body;
+  }
 }
 
 /** Marks a JSON POST handler as honouring the Idempotency-Key header (and documents it). */
-export function Idempotent(kind: IngestKind): MethodDecorator {
+export function Idempotent(kind: IngestKind, options: { inTransaction?: boolean } = {}): MethodDecorator {
   return applyDecorators(
     SetMetadata(INGEST_KIND_METADATA, kind),
+    SetMetadata(IN_TRANSACTION_METADATA, options.inTransaction === true),
     UseInterceptors(IdempotencyInterceptor),
     ApiHeader({
       name: IDEMPOTENCY_HEADER,
