@@ -14,3 +14,4 @@ export {
 export * from './repositories/deviations.js';
 export * from './repositories/recompute-inputs.js';
 export * from './repositories/pyrometry.js';
+export * from './repositories/drift-lots.js';

@@ -5,19 +5,16 @@ import {
   DRIFT_METRICS,
   DRIFT_METRIC_LABEL,
   chartDrift,
-  convertHardness,
   driftMetricApplies,
   driftMetricUnit,
   driftSettingsOf,
   driftSpecContext,
   driftSpecLimits,
-  isHardnessScale,
-  type ChartLot,
   type DriftMetric,
   type FrozenLimits,
   type StoredLimits,
 } from '@ausline/compliance';
-import { Prisma, type PrismaClient, type ProductSpecVersion } from '@ausline/db';
+import { Prisma, chartLots, type PrismaClient, type ProductSpecVersion } from '@ausline/db';
 import { conflict, notFound } from '../http/errors.js';
 import { InjectPrisma } from '../prisma.provider.js';
 
@@ -27,23 +24,6 @@ async function inForceVersion(prisma: PrismaClient, specId: string): Promise<Pro
     (await prisma.productSpecVersion.findFirst({ where: { specId, status: 'APPROVED' }, orderBy: { version: 'desc' } })) ??
     (await prisma.productSpecVersion.findFirst({ where: { specId }, orderBy: { version: 'desc' } }))
   );
-}
-
-/** Same reading of the stored lots as the worker's drift job (apps/worker/src/drift/drift.service.ts chartLots). */
-async function chartLots(prisma: PrismaClient, productSpecId: string, lineId: string, metric: DriftMetric, unit: string): Promise<ChartLot[]> {
-  const rows = await prisma.driftValue.findMany({
-    where: { productSpecId, lineId, metric },
-    select: { batchId: true, value: true, unit: true, orderAt: true, batch: { select: { code: true } } },
-    orderBy: [{ orderAt: 'asc' }, { batchId: 'asc' }],
-  });
-  rows.sort((a, b) => a.orderAt.getTime() - b.orderAt.getTime() || (a.batch.code < b.batch.code ? -1 : a.batch.code > b.batch.code ? 1 : 0));
-  const lots: ChartLot[] = [];
-  for (const r of rows) {
-    let value: number | null = r.value;
-    if (r.unit !== unit) value = isHardnessScale(r.unit) && isHardnessScale(unit) ? convertHardness(r.value, r.unit, unit) : null;
-    if (value !== null && Number.isFinite(value)) lots.push({ lotId: r.batch.code, batchId: r.batchId, value });
-  }
-  return lots;
 }
 
 /**

@@ -4,7 +4,6 @@ import {
   DRIFT_METRICS,
   DRIFT_RULE,
   chartDrift,
-  convertHardness,
   decideLimits,
   driftDedupPrefix,
   driftFinding,
@@ -13,14 +12,12 @@ import {
   driftSettingsOf,
   driftSpecContext,
   driftSpecLimits,
-  isHardnessScale,
-  type ChartLot,
   type DriftFinding,
   type DriftMetric,
   type FrozenLimits,
   type StoredLimits,
 } from '@ausline/compliance';
-import { DeviationRepository, type DeviationChange, type Prisma, type PrismaClient } from '@ausline/db';
+import { DeviationRepository, chartLots, type DeviationChange, type Prisma, type PrismaClient } from '@ausline/db';
 import { LiveEventsPublisher } from '../events/live-events.js';
 import { WorkerLogger } from '../logger.js';
 import { WorkerMetrics } from '../ops/worker-metrics.js';
@@ -61,26 +58,6 @@ async function inForceVersion(tx: Tx, specId: string) {
     (await tx.productSpecVersion.findFirst({ where: { specId, status: 'APPROVED' }, orderBy: { version: 'desc' } })) ??
     (await tx.productSpecVersion.findFirst({ where: { specId }, orderBy: { version: 'desc' } }))
   );
-}
-
-/**
- * The lots of one chart in production order, in the unit the chart is drawn in now (hardness values stored in
- * another scale are converted by the E140 rows; one that cannot be is left out).
- */
-export async function chartLots(tx: Tx | PrismaClient, productSpecId: string, lineId: string, metric: DriftMetric, unit: string): Promise<ChartLot[]> {
-  const rows = await tx.driftValue.findMany({
-    where: { productSpecId, lineId, metric },
-    select: { batchId: true, value: true, unit: true, orderAt: true, batch: { select: { code: true } } },
-    orderBy: [{ orderAt: 'asc' }, { batchId: 'asc' }],
-  });
-  rows.sort((a, b) => a.orderAt.getTime() - b.orderAt.getTime() || (a.batch.code < b.batch.code ? -1 : a.batch.code > b.batch.code ? 1 : 0));
-  const lots: ChartLot[] = [];
-  for (const r of rows) {
-    let value: number | null = r.value;
-    if (r.unit !== unit) value = isHardnessScale(r.unit) && isHardnessScale(unit) ? convertHardness(r.value, r.unit, unit) : null;
-    if (value !== null && Number.isFinite(value)) lots.push({ lotId: r.batch.code, batchId: r.batchId, value });
-  }
-  return lots;
 }
 
 /**
