@@ -128,6 +128,15 @@ describe('ausline t0', () => {
     expect(Math.abs(at400.t0PrimeCarbonWtPct - 0.92)).toBeLessThan(0.02);
     // T0 carbon rises as temperature falls
     for (let i = 1; i < out.rows.length; i++) expect(out.rows[i].t0CarbonWtPct).toBeLessThan(out.rows[i - 1].t0CarbonWtPct);
+    expect(out.warnings).toEqual([]);
+  });
+
+  it('carries the chemistry warnings instead of dropping them (Mn ≥ 1.5: T0′ is model-dependent, metallurgy.md §9.1)', () => {
+    const r = run(['t0', '-'], JSON.stringify({ chemistryWtPct: { C: 0.43, Si: 2.12, Mn: 3.0 }, fromC: 300, toC: 400, stepC: 50 }));
+    expect(r.code).toBe(0);
+    const out = JSON.parse(r.stdout);
+    expect(out.rows).toHaveLength(3);
+    expect(out.warnings).toEqual(expect.arrayContaining([expect.stringMatching(/^chemistryWtPct\.Mn: T0′ \(CALPHAD\) is model-dependent/)]));
   });
 
   it('bad input: exit 2, one line naming the field', () => {
