@@ -191,4 +191,26 @@ describe('predict for austempered ductile iron', () => {
     expect(adi.warnings.join('\n')).toMatch(/not cast iron/);
     expect(adi.final.bainiticFerrite).toBeGreaterThan(0.05);
   });
+
+  it('says the grade is inferred from predicted hardness via the A897 table, not measured', () => {
+    const note = adi.warnings.filter((w) => w.startsWith('properties.adiGrade: grade inferred from predicted hardness via the A897 table'));
+    expect(note).toHaveLength(1);
+    expect(note[0]).toMatch(/not a measurement/);
+  });
+
+  it('no A255 grain-size note at grain size 7, the basis of the factors', () => {
+    expect(adi.warnings.some((w) => w.startsWith('quench.idealCriticalDiameterMm: computed for ASTM grain size 7'))).toBe(false);
+  });
+});
+
+describe('ideal critical diameter and grain size (ASTM A255 factors are for grain size 7, metallurgy.md §7.1)', () => {
+  it('warns that the setup grain size is not applied, and leaves DI unchanged', () => {
+    const g8 = predict(steel({ uncertainty: { samples: 10, seed: 1 } }));
+    const g7 = predict(steel({ grainSizeAstm: 7, uncertainty: { samples: 10, seed: 1 } }));
+    expect(g8.warnings).toContain(
+      "quench.idealCriticalDiameterMm: computed for ASTM grain size 7 (the A255 factors' basis); the setup's grain size 8 is not applied (the A255 grain-size carbon factors are not in our sources)",
+    );
+    expect(g7.warnings.some((w) => w.startsWith('quench.idealCriticalDiameterMm:'))).toBe(false);
+    expect(g8.quench.idealCriticalDiameterMm).toBe(g7.quench.idealCriticalDiameterMm);
+  });
 });
