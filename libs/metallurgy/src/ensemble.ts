@@ -144,13 +144,25 @@ export function effectiveChemistry(setup: BatchSetup, bulk: ChemistryWtPct): Che
   return { ...bulk };
 }
 
+/** The chemistry tolerance of a setup (1σ per element, wt%) and the elements it perturbs (present, with an sd). */
+export function chemistryTolerance(setup: BatchSetup): { sdChem: Partial<Record<Element, number>>; perturbed: Element[] } {
+  const bulkChem = setup.chemistryWtPct;
+  const sdChem: Partial<Record<Element, number>> = { ...DEFAULT_CHEMISTRY_SD_WT_PCT, ...(setup.uncertainty.chemistrySdWtPct ?? {}) };
+  if (setup.material === 'ductile-iron' && setup.uncertainty.chemistrySdWtPct?.C === undefined) sdChem.C = DUCTILE_IRON_BULK_CARBON_SD_WT_PCT;
+  const perturbed = (Object.keys(bulkChem) as Element[]).filter((el) => (bulkChem[el] ?? 0) > 0 && (sdChem[el] ?? 0) > 0);
+  return { sdChem, perturbed };
+}
+
+/** Standard normal of a Latin-hypercube stratum value, clipped at ±Z_CLIP. */
+export function clippedNormal(u: number): number {
+  return Math.max(-Z_CLIP, Math.min(Z_CLIP, inverseNormalCdf(u)));
+}
+
 function buildModel(setup: BatchSetup, key: string): BatchModel {
   const bulkChem = setup.chemistryWtPct;
   const chem = effectiveChemistry(setup, bulkChem);
   const isIron = setup.material === 'ductile-iron';
-  const sdChem: Partial<Record<Element, number>> = { ...DEFAULT_CHEMISTRY_SD_WT_PCT, ...(setup.uncertainty.chemistrySdWtPct ?? {}) };
-  if (isIron && setup.uncertainty.chemistrySdWtPct?.C === undefined) sdChem.C = DUCTILE_IRON_BULK_CARBON_SD_WT_PCT;
-  const perturbed = (Object.keys(bulkChem) as Element[]).filter((el) => (bulkChem[el] ?? 0) > 0 && (sdChem[el] ?? 0) > 0);
+  const { sdChem, perturbed } = chemistryTolerance(setup);
   const calphadSet: ReadonlySet<string> = new Set(CALPHAD_SUBSTITUTIONALS);
   const t0Elements = perturbed.filter((el) => calphadSet.has(el));
 
@@ -206,7 +218,7 @@ function buildModel(setup: BatchSetup, key: string): BatchModel {
   const zCols: Float64Array[] = [];
   for (let d = 0; d < dims; d++) {
     const col = new Float64Array(size);
-    for (let k = 1; k < size; k++) col[k] = Math.max(-Z_CLIP, Math.min(Z_CLIP, inverseNormalCdf(lhs[d][k - 1])));
+    for (let k = 1; k < size; k++) col[k] = clippedNormal(lhs[d][k - 1]);
     zCols.push(col);
   }
   const z = (dim: number, member: number): number => zCols[dim][member];

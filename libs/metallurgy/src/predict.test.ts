@@ -1,8 +1,10 @@
 import { describe, expect, it } from 'vitest';
 import type { PredictInput } from './input.js';
 import { advanceBath, createBathState } from './kinetics/bath.js';
+import { batchModel } from './ensemble.js';
 import { finalizeBatch, predict, type PredictOutput } from './predict.js';
 import { BAND_QUANTITIES } from './setup.js';
+import { defaultFormulaErrorsC, temperatureBands } from './temperatureBands.js';
 
 function bath(durationS: number, temp: (t: number) => number, stepS = 5): Array<[number, number]> {
   const out: Array<[number, number]> = [];
@@ -212,5 +214,67 @@ describe('ideal critical diameter and grain size (ASTM A255 factors are for grai
     );
     expect(g7.warnings.some((w) => w.startsWith('quench.idealCriticalDiameterMm:'))).toBe(false);
     expect(g8.quench.idealCriticalDiameterMm).toBe(g7.quench.idealCriticalDiameterMm);
+  });
+});
+
+/** A short isothermal bath: the temperature bands depend on the setup only. */
+const quick = (samples: number, seed: number) => steel({ uncertainty: { samples, seed }, bath: bath(1800, () => 300, 600) });
+const setupOf = (input: PredictInput) => {
+  const { bath: _unused, ...setup } = input;
+  return setup;
+};
+
+describe('temperatureBandsC (reported formula errors + chemistry tolerance)', () => {
+  it('takes each default formula’s reported error where one is known, and says what it assumed otherwise', () => {
+    const e = defaultFormulaErrorsC();
+    // Andrews 1965 Ac1/Ac3: 11.5 / 16.7 °C, from memory [M] (temperatures.ts FORMULAS)
+    expect(e.ae1).toMatchObject({ sdC: 11.5 });
+    expect(e.ae3).toMatchObject({ sdC: 16.7 });
+    expect(e.ae1.basis).toMatch(/^reported error: FROM MEMORY \[M\]/);
+    // van Bohemen 2012 Bs / Ms: no reported error known → the ensemble's own Bs / Ms errors, marked as our assumption
+    expect(e.bs).toMatchObject({ sdC: 25 });
+    expect(e.ms).toMatchObject({ sdC: 15 });
+    expect(e.bs.basis).toMatch(/^our assumption/);
+    expect(e.ms.basis).toMatch(/^our assumption/);
+  });
+
+  it('p50 sits on the nominal temperature and the 90 % width matches the combined 1σ (Latin hypercube, 2000 samples)', () => {
+    const out = predict(quick(2000, 5));
+    const b = out.temperatureBandsC;
+    for (const q of ['ae1', 'ae3', 'bs', 'ms'] as const) {
+      expect(b[q].p05).toBeLessThan(b[q].p50);
+      expect(b[q].p50).toBeLessThan(b[q].p95);
+      expect(Math.abs(b[q].p50 - out.temperaturesC[q])).toBeLessThan(1);
+    }
+    // Andrews Ac1 is linear: 723 − 10.7Mn + 29.1Si + 16.9Cr, chemistry sd Mn 0.03, Si 0.04, Cr 0.03 (ensemble.ts);
+    // expected 1σ = √(11.5² + (10.7·0.03)² + (29.1·0.04)² + (16.9·0.03)²) = 11.57 °C → p95 − p05 = 2·1.645·11.57 = 38.1
+    const sd = Math.sqrt(11.5 ** 2 + (10.7 * 0.03) ** 2 + (29.1 * 0.04) ** 2 + (16.9 * 0.03) ** 2);
+    expect(Math.abs((b.ae1.p95 - b.ae1.p05) / (2 * 1.6449 * sd) - 1)).toBeLessThan(0.03);
+    // Ms: van Bohemen, 15 °C assumed, plus chemistry (C 0.015 dominates: ∂Ms/∂C = 600·0.96·e^(−0.96·0.6) ≈ 324 °C/wt%)
+    const msSd = Math.sqrt(15 ** 2 + (324 * 0.015) ** 2 + (31 * 0.03) ** 2 + (13 * 0.04) ** 2 + (10 * 0.03) ** 2 + (12 * 0.01) ** 2);
+    expect(Math.abs((b.ms.p95 - b.ms.p05) / (2 * 1.6449 * msSd) - 1)).toBeLessThan(0.03);
+  });
+
+  it('the same seed gives the same bands; another seed other ones; no samples gives the nominal', () => {
+    const a = predict(quick(300, 7)).temperatureBandsC;
+    expect(predict(quick(300, 7)).temperatureBandsC).toEqual(a);
+    expect(predict(quick(300, 8)).temperatureBandsC).not.toEqual(a);
+    const none = predict(quick(0, 7));
+    for (const q of ['ae1', 'ae3', 'bs', 'ms'] as const) {
+      expect(none.temperatureBandsC[q]).toEqual({ p05: none.temperaturesC[q], p50: none.temperaturesC[q], p95: none.temperaturesC[q] });
+    }
+  });
+
+  it('does not touch the kinetics ensemble: its members are the same before and after the bands are drawn', () => {
+    const model = batchModel(setupOf(quick(200, 11)));
+    const before = JSON.stringify(Object.values(model.members).map((col) => Array.from(col as Float64Array)));
+    temperatureBands(model);
+    const after = JSON.stringify(Object.values(model.members).map((col) => Array.from(col as Float64Array)));
+    expect(after).toBe(before);
+  });
+
+  it('ductile iron: bands on the matrix carbon (Voigt–Loper), like temperaturesC', () => {
+    const iron = predict({ ...quick(200, 3), material: 'ductile-iron', chemistryWtPct: { C: 3.6, Si: 2.5, Mn: 0.3, Ni: 0.8, Mo: 0.2 }, austenitize: { tempC: 900, minutes: 90 } });
+    expect(Math.abs(iron.temperatureBandsC.ms.p50 - iron.temperaturesC.ms)).toBeLessThan(2);
   });
 });

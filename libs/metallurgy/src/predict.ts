@@ -31,6 +31,7 @@ import {
 import { percentilesInPlace } from './random.js';
 import { BAND_QUANTITIES, sectionSizeMm, type BandQuantity, type BatchSetup, type Calibration } from './setup.js';
 import { t0CarbonWtPct, t0PrimeCarbonWtPct } from './thermo/index.js';
+import { temperatureBands, type TemperatureBandsC } from './temperatureBands.js';
 import { MODEL_VERSION } from './version.js';
 
 export interface Band {
@@ -43,6 +44,8 @@ export interface PredictOutput {
   modelVersion: string;
   material: BatchSetup['material'];
   temperaturesC: { ae1: number; ae3: number; bs: number; ms: number };
+  /** p05/p50/p95 of the critical temperatures from the formulas' reported errors and the chemistry tolerance (temperatureBands.ts). */
+  temperatureBandsC: TemperatureBandsC;
   t0: { bathTempC: number; t0CarbonWtPct: number; t0PrimeCarbonWtPct: number };
   bainite: {
     ceilingFraction: number;
@@ -228,6 +231,7 @@ export function finalizeBatch(state: BathState, opts: { calibration?: Calibratio
     modelVersion: MODEL_VERSION,
     material: setup.material,
     temperaturesC: { ae1: round(crit.ae1C, 1), ae3: round(crit.ae3C, 1), bs: round(crit.bsC, 1), ms: round(crit.msC, 1) },
+    temperatureBandsC: temperatureBands(model),
     t0: { bathTempC: round(bathMeanC, 2), t0CarbonWtPct: round(t0Nominal, 4), t0PrimeCarbonWtPct: round(t0PrimeNominal, 4) },
     bainite: {
       ceilingFraction: round(nom.ceiling, 4),
