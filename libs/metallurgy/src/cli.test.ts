@@ -47,6 +47,12 @@ describe('ausline predict', () => {
     const out = JSON.parse(r.stdout);
     expect(typeof out.modelVersion).toBe('string');
     expect(Object.keys(out.temperaturesC).sort()).toEqual(['ae1', 'ae3', 'bs', 'ms']);
+    // additive: bands of the same four temperatures from the formulas' errors and the chemistry tolerance
+    for (const k of ['ae1', 'ae3', 'bs', 'ms']) {
+      const b = out.temperatureBandsC[k];
+      expect(b.p05).toBeLessThan(out.temperaturesC[k]);
+      expect(b.p95).toBeGreaterThan(out.temperaturesC[k]);
+    }
     expect(out.t0).toEqual({ bathTempC: expect.any(Number), t0CarbonWtPct: expect.any(Number), t0PrimeCarbonWtPct: expect.any(Number) });
     expect(out.bainite).toMatchObject({ ceilingFraction: expect.any(Number), fractionAtEnd: expect.any(Number), curve: expect.any(Array) });
     expect(out.bainite).toHaveProperty('timeTo95PctS');
