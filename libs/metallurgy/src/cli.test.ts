@@ -47,6 +47,12 @@ describe('ausline predict', () => {
     const out = JSON.parse(r.stdout);
     expect(typeof out.modelVersion).toBe('string');
     expect(Object.keys(out.temperaturesC).sort()).toEqual(['ae1', 'ae3', 'bs', 'ms']);
+    // additive: bands of the same four temperatures from the formulas' errors and the chemistry tolerance
+    for (const k of ['ae1', 'ae3', 'bs', 'ms']) {
+      const b = out.temperatureBandsC[k];
+      expect(b.p05).toBeLessThan(out.temperaturesC[k]);
+      expect(b.p95).toBeGreaterThan(out.temperaturesC[k]);
+    }
     expect(out.t0).toEqual({ bathTempC: expect.any(Number), t0CarbonWtPct: expect.any(Number), t0PrimeCarbonWtPct: expect.any(Number) });
     expect(out.bainite).toMatchObject({ ceilingFraction: expect.any(Number), fractionAtEnd: expect.any(Number), curve: expect.any(Array) });
     expect(out.bainite).toHaveProperty('timeTo95PctS');
@@ -128,6 +134,15 @@ describe('ausline t0', () => {
     expect(Math.abs(at400.t0PrimeCarbonWtPct - 0.92)).toBeLessThan(0.02);
     // T0 carbon rises as temperature falls
     for (let i = 1; i < out.rows.length; i++) expect(out.rows[i].t0CarbonWtPct).toBeLessThan(out.rows[i - 1].t0CarbonWtPct);
+    expect(out.warnings).toEqual([]);
+  });
+
+  it('carries the chemistry warnings instead of dropping them (Mn ≥ 1.5: T0′ is model-dependent, metallurgy.md §9.1)', () => {
+    const r = run(['t0', '-'], JSON.stringify({ chemistryWtPct: { C: 0.43, Si: 2.12, Mn: 3.0 }, fromC: 300, toC: 400, stepC: 50 }));
+    expect(r.code).toBe(0);
+    const out = JSON.parse(r.stdout);
+    expect(out.rows).toHaveLength(3);
+    expect(out.warnings).toEqual(expect.arrayContaining([expect.stringMatching(/^chemistryWtPct\.Mn: T0′ \(CALPHAD\) is model-dependent/)]));
   });
 
   it('bad input: exit 2, one line naming the field', () => {

@@ -3,7 +3,7 @@
  * so the library stays free of file access.
  *
  *   ausline predict FILE   one JSON object: the prediction of a batch (see README.md)
- *   ausline t0 FILE        {"rows":[{"tempC","t0CarbonWtPct","t0PrimeCarbonWtPct"}]}
+ *   ausline t0 FILE        {"rows":[{"tempC","t0CarbonWtPct","t0PrimeCarbonWtPct"}],"warnings":[string]}
  *   FILE '-' reads stdin; --pretty indents the JSON.
  * Bad input: exit code 2 and ONE line on stderr naming the field and what is wrong.
  */
@@ -57,7 +57,9 @@ export function runCli(command: string | undefined, inputText: string, opts: { p
   if (command === 't0') {
     const parsed = parseT0Input(raw);
     if ('issues' in parsed) return badInput(formatIssue(parsed.issues[0]));
-    return { exitCode: 0, stdout: JSON.stringify(t0Rows(parsed.input), null, indent) + '\n', stderr: '' };
+    // The chemistry warnings (e.g. Mn ≥ 1.5: T0′ is model-dependent) travel with the rows, as they do in predict.
+    const out = { ...t0Rows(parsed.input), warnings: parsed.warnings };
+    return { exitCode: 0, stdout: JSON.stringify(out, null, indent) + '\n', stderr: '' };
   }
   const parsed = parsePredictInput(raw);
   if ('issues' in parsed) return badInput(formatIssue(parsed.issues[0]));

@@ -10,7 +10,7 @@
  * - Li 1998 bainite time: ln-sd 0.7 (factor 2 at 1σ) for steel, 1.0 for cast iron – Li is not calibrated for
  *   Si-rich carbide-free steels nor for cast iron (§3.1), so the band is wide on purpose
  * - Li Bs: 25 °C; stored energy of bainite: 400 ± 100 J/mol (measured retained-austenite carbon lies between T0′ and
- *   T0, §5.1); T0′ description: uniform mix between 'calphad' and 'alt' (§9.1); carbon left in bainitic ferrite
+ *   T0, §5.1); T0′ description: uniform mix between 'calphad' and the constructed 'alt' spread (§9.1; thermo/t0.ts); carbon left in bainitic ferrite
  *   0.03 ± 0.01 wt% (§5.1 [M]); film coefficient 0.15 ± 0.03 (§5.2 [M]); Ms of enriched austenite ± 15 °C;
  *   α_m ± 10 %; ferrite/pearlite time ln-sd 1.0 (§8.4: ferrite-limited rates are uncertain by up to a factor 3);
  *   bath heat transfer ln-sd 0.3; hardness ln-sd 0.08 steel / 0.10 iron; tensile conversion ln-sd 0.06 / 0.08;
@@ -73,7 +73,7 @@ export interface MemberArrays {
   /** 2^{0.29G} / (BC · time factor): 1/τ̂ = prefactor·(Bs − T)²·exp(−Q/RT). */
   bainitePrefactor: Float64Array;
   bainiteStartC: Float64Array;
-  /** 0 = 'calphad', 1 = 'alt' T0′ description. */
+  /** 0 = 'calphad', 1 = the constructed 'alt' T0′ spread (not a published description). */
   descriptionMix: Float64Array;
   /** Stored energy / 400 J/mol. */
   storedEnergyScale: Float64Array;
@@ -144,13 +144,25 @@ export function effectiveChemistry(setup: BatchSetup, bulk: ChemistryWtPct): Che
   return { ...bulk };
 }
 
+/** The chemistry tolerance of a setup (1σ per element, wt%) and the elements it perturbs (present, with an sd). */
+export function chemistryTolerance(setup: BatchSetup): { sdChem: Partial<Record<Element, number>>; perturbed: Element[] } {
+  const bulkChem = setup.chemistryWtPct;
+  const sdChem: Partial<Record<Element, number>> = { ...DEFAULT_CHEMISTRY_SD_WT_PCT, ...(setup.uncertainty.chemistrySdWtPct ?? {}) };
+  if (setup.material === 'ductile-iron' && setup.uncertainty.chemistrySdWtPct?.C === undefined) sdChem.C = DUCTILE_IRON_BULK_CARBON_SD_WT_PCT;
+  const perturbed = (Object.keys(bulkChem) as Element[]).filter((el) => (bulkChem[el] ?? 0) > 0 && (sdChem[el] ?? 0) > 0);
+  return { sdChem, perturbed };
+}
+
+/** Standard normal of a Latin-hypercube stratum value, clipped at ±Z_CLIP. */
+export function clippedNormal(u: number): number {
+  return Math.max(-Z_CLIP, Math.min(Z_CLIP, inverseNormalCdf(u)));
+}
+
 function buildModel(setup: BatchSetup, key: string): BatchModel {
   const bulkChem = setup.chemistryWtPct;
   const chem = effectiveChemistry(setup, bulkChem);
   const isIron = setup.material === 'ductile-iron';
-  const sdChem: Partial<Record<Element, number>> = { ...DEFAULT_CHEMISTRY_SD_WT_PCT, ...(setup.uncertainty.chemistrySdWtPct ?? {}) };
-  if (isIron && setup.uncertainty.chemistrySdWtPct?.C === undefined) sdChem.C = DUCTILE_IRON_BULK_CARBON_SD_WT_PCT;
-  const perturbed = (Object.keys(bulkChem) as Element[]).filter((el) => (bulkChem[el] ?? 0) > 0 && (sdChem[el] ?? 0) > 0);
+  const { sdChem, perturbed } = chemistryTolerance(setup);
   const calphadSet: ReadonlySet<string> = new Set(CALPHAD_SUBSTITUTIONALS);
   const t0Elements = perturbed.filter((el) => calphadSet.has(el));
 
@@ -206,7 +218,7 @@ function buildModel(setup: BatchSetup, key: string): BatchModel {
   const zCols: Float64Array[] = [];
   for (let d = 0; d < dims; d++) {
     const col = new Float64Array(size);
-    for (let k = 1; k < size; k++) col[k] = Math.max(-Z_CLIP, Math.min(Z_CLIP, inverseNormalCdf(lhs[d][k - 1])));
+    for (let k = 1; k < size; k++) col[k] = clippedNormal(lhs[d][k - 1]);
     zCols.push(col);
   }
   const z = (dim: number, member: number): number => zCols[dim][member];

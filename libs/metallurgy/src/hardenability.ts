@@ -6,6 +6,9 @@
  */
 import type { ChemistryWtPct, Element } from './chemistry.js';
 
+/** ASTM grain size the A255 multiplying factors are defined for (§7.1). */
+export const A255_GRAIN_SIZE_ASTM = 7;
+
 export interface IdealCriticalDiameter {
   inches: number;
   mm: number;

@@ -18,12 +18,15 @@ describe('ASTM E140 conversions', () => {
     expect(hbwFromHv(392)).toBeCloseTo(371, 6);
     expect(Math.abs((hrcFromHv(513) as number) - 50)).toBeLessThanOrEqual(1);
     expect(hbwFromHv(513)).toBeCloseTo(481, 6);
+    // The table's end rows and the HRC 30 row (same source, metallurgy.md §6.4 [F2]): HRC 20 ↔ HV 238; HRC 60 ↔ HV 697;
+    // HBW 286 ↔ HV 302 (HRC 30).
     expect(hvFromHrc(20)).toBe(238);
     expect(hvFromHrc(60)).toBe(697);
     expect(hvFromHbw(286)).toBeCloseTo(302, 6);
   });
 
   it('interpolates between rows and refuses to extrapolate', () => {
+    // HV 446 / 513 are the E140 rows of HRC 45 / 50 (metallurgy.md §6.4 [F2]); HV 200 and 750 lie outside its 238–697.
     const mid = hrcFromHv((446 + 513) / 2) as number;
     expect(mid).toBeGreaterThan(45);
     expect(mid).toBeLessThan(50);
@@ -50,6 +53,7 @@ describe('ASTM A897 / ISO 17804 grades', () => {
   });
 
   it('places a tensile strength in the highest grade whose minimum it meets', () => {
+    // Grade minima from the A897M table above (metallurgy.md §4.3 [F2]): 750, 1050 and 1600 MPa.
     expect(a897GradeForTensile(749)).toBeNull();
     expect(a897GradeForTensile(750)?.grade).toBe('750/500/11');
     expect(a897GradeForTensile(1100)?.grade).toBe('1050/750/07');
@@ -66,7 +70,8 @@ describe('ASTM A897 / ISO 17804 grades', () => {
       expect(t).toBeGreaterThan(prev);
       prev = t;
     }
-    // at the middle of a grade's typical range it returns that grade's minimum (our construction)
+    // at the middle of a grade's typical range it returns that grade's minimum (our construction; 302–375 HBW is the
+    // 1050/750/07 typical range of A897M, metallurgy.md §4.3 [F2], and informative only)
     expect(adiTensileFromHbw((302 + 375) / 2)).toBeCloseTo(1050, 9);
   });
 });

@@ -6,6 +6,7 @@
 export * from './chemistry.js';
 export * from './thermo/index.js';
 export * from './temperatures.js';
+export { defaultFormulaErrorsC, temperatureBands, type CriticalTemperature, type TemperatureBandsC } from './temperatureBands.js';
 
 // Kinetics, cooling, final state, properties, uncertainty, prediction (§3–9).
 export { MODEL_VERSION } from './version.js';

@@ -1,8 +1,10 @@
 import { describe, expect, it } from 'vitest';
 import type { PredictInput } from './input.js';
 import { advanceBath, createBathState } from './kinetics/bath.js';
+import { batchModel } from './ensemble.js';
 import { finalizeBatch, predict, type PredictOutput } from './predict.js';
 import { BAND_QUANTITIES } from './setup.js';
+import { defaultFormulaErrorsC, temperatureBands } from './temperatureBands.js';
 
 function bath(durationS: number, temp: (t: number) => number, stepS = 5): Array<[number, number]> {
   const out: Array<[number, number]> = [];
@@ -190,5 +192,89 @@ describe('predict for austempered ductile iron', () => {
     expect(adi.properties.adiGrade === null || /^\d+\/\d+\/\d+$/.test(adi.properties.adiGrade as string)).toBe(true);
     expect(adi.warnings.join('\n')).toMatch(/not cast iron/);
     expect(adi.final.bainiticFerrite).toBeGreaterThan(0.05);
+  });
+
+  it('says the grade is inferred from predicted hardness via the A897 table, not measured', () => {
+    const note = adi.warnings.filter((w) => w.startsWith('properties.adiGrade: grade inferred from predicted hardness via the A897 table'));
+    expect(note).toHaveLength(1);
+    expect(note[0]).toMatch(/not a measurement/);
+  });
+
+  it('no A255 grain-size note at grain size 7, the basis of the factors', () => {
+    expect(adi.warnings.some((w) => w.startsWith('quench.idealCriticalDiameterMm: computed for ASTM grain size 7'))).toBe(false);
+  });
+});
+
+describe('ideal critical diameter and grain size (ASTM A255 factors are for grain size 7, metallurgy.md §7.1)', () => {
+  it('warns that the setup grain size is not applied, and leaves DI unchanged', () => {
+    const g8 = predict(steel({ uncertainty: { samples: 10, seed: 1 } }));
+    const g7 = predict(steel({ grainSizeAstm: 7, uncertainty: { samples: 10, seed: 1 } }));
+    expect(g8.warnings).toContain(
+      "quench.idealCriticalDiameterMm: computed for ASTM grain size 7 (the A255 factors' basis); the setup's grain size 8 is not applied (the A255 grain-size carbon factors are not in our sources)",
+    );
+    expect(g7.warnings.some((w) => w.startsWith('quench.idealCriticalDiameterMm:'))).toBe(false);
+    expect(g8.quench.idealCriticalDiameterMm).toBe(g7.quench.idealCriticalDiameterMm);
+  });
+});
+
+/** A short isothermal bath: the temperature bands depend on the setup only. */
+const quick = (samples: number, seed: number) => steel({ uncertainty: { samples, seed }, bath: bath(1800, () => 300, 600) });
+const setupOf = (input: PredictInput) => {
+  const { bath: _unused, ...setup } = input;
+  return setup;
+};
+
+describe('temperatureBandsC (reported formula errors + chemistry tolerance)', () => {
+  it('takes each default formula’s reported error where one is known, and says what it assumed otherwise', () => {
+    const e = defaultFormulaErrorsC();
+    // Andrews 1965 Ac1/Ac3: 11.5 / 16.7 °C, from memory [M] (temperatures.ts FORMULAS)
+    expect(e.ae1).toMatchObject({ sdC: 11.5 });
+    expect(e.ae3).toMatchObject({ sdC: 16.7 });
+    expect(e.ae1.basis).toMatch(/^reported error: FROM MEMORY \[M\]/);
+    // van Bohemen 2012 Bs / Ms: no reported error known → the ensemble's own Bs / Ms errors, marked as our assumption
+    expect(e.bs).toMatchObject({ sdC: 25 });
+    expect(e.ms).toMatchObject({ sdC: 15 });
+    expect(e.bs.basis).toMatch(/^our assumption/);
+    expect(e.ms.basis).toMatch(/^our assumption/);
+  });
+
+  it('p50 sits on the nominal temperature and the 90 % width matches the combined 1σ (Latin hypercube, 2000 samples)', () => {
+    const out = predict(quick(2000, 5));
+    const b = out.temperatureBandsC;
+    for (const q of ['ae1', 'ae3', 'bs', 'ms'] as const) {
+      expect(b[q].p05).toBeLessThan(b[q].p50);
+      expect(b[q].p50).toBeLessThan(b[q].p95);
+      expect(Math.abs(b[q].p50 - out.temperaturesC[q])).toBeLessThan(1);
+    }
+    // Andrews Ac1 is linear: 723 − 10.7Mn + 29.1Si + 16.9Cr, chemistry sd Mn 0.03, Si 0.04, Cr 0.03 (ensemble.ts);
+    // expected 1σ = √(11.5² + (10.7·0.03)² + (29.1·0.04)² + (16.9·0.03)²) = 11.57 °C → p95 − p05 = 2·1.645·11.57 = 38.1
+    const sd = Math.sqrt(11.5 ** 2 + (10.7 * 0.03) ** 2 + (29.1 * 0.04) ** 2 + (16.9 * 0.03) ** 2);
+    expect(Math.abs((b.ae1.p95 - b.ae1.p05) / (2 * 1.6449 * sd) - 1)).toBeLessThan(0.03);
+    // Ms: van Bohemen, 15 °C assumed, plus chemistry (C 0.015 dominates: ∂Ms/∂C = 600·0.96·e^(−0.96·0.6) ≈ 324 °C/wt%)
+    const msSd = Math.sqrt(15 ** 2 + (324 * 0.015) ** 2 + (31 * 0.03) ** 2 + (13 * 0.04) ** 2 + (10 * 0.03) ** 2 + (12 * 0.01) ** 2);
+    expect(Math.abs((b.ms.p95 - b.ms.p05) / (2 * 1.6449 * msSd) - 1)).toBeLessThan(0.03);
+  });
+
+  it('the same seed gives the same bands; another seed other ones; no samples gives the nominal', () => {
+    const a = predict(quick(300, 7)).temperatureBandsC;
+    expect(predict(quick(300, 7)).temperatureBandsC).toEqual(a);
+    expect(predict(quick(300, 8)).temperatureBandsC).not.toEqual(a);
+    const none = predict(quick(0, 7));
+    for (const q of ['ae1', 'ae3', 'bs', 'ms'] as const) {
+      expect(none.temperatureBandsC[q]).toEqual({ p05: none.temperaturesC[q], p50: none.temperaturesC[q], p95: none.temperaturesC[q] });
+    }
+  });
+
+  it('does not touch the kinetics ensemble: its members are the same before and after the bands are drawn', () => {
+    const model = batchModel(setupOf(quick(200, 11)));
+    const before = JSON.stringify(Object.values(model.members).map((col) => Array.from(col as Float64Array)));
+    temperatureBands(model);
+    const after = JSON.stringify(Object.values(model.members).map((col) => Array.from(col as Float64Array)));
+    expect(after).toBe(before);
+  });
+
+  it('ductile iron: bands on the matrix carbon (Voigt–Loper), like temperaturesC', () => {
+    const iron = predict({ ...quick(200, 3), material: 'ductile-iron', chemistryWtPct: { C: 3.6, Si: 2.5, Mn: 0.3, Ni: 0.8, Mo: 0.2 }, austenitize: { tempC: 900, minutes: 90 } });
+    expect(Math.abs(iron.temperatureBandsC.ms.p50 - iron.temperaturesC.ms)).toBeLessThan(2);
   });
 });

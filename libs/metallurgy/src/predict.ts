@@ -12,7 +12,7 @@ import { memberQuench, type QuenchSummary } from './cooling/quenchSummary.js';
 import { CORE_AT_BATH_MARGIN_C } from './cooling/quench.js';
 import { calibrationNormals, type BatchModel } from './ensemble.js';
 import { finalMicrostructure, koistinenMarburger, type FinalState } from './finalState.js';
-import { idealCriticalDiameter } from './hardenability.js';
+import { A255_GRAIN_SIZE_ASTM, idealCriticalDiameter } from './hardenability.js';
 import { a897GradeForTensile, adiTensileFromHbw, hbwFromHv, hrcFromHv, iso17804GradeForTensile } from './hardness.js';
 import { advanceBath, bathProgress, createBathState, LONG_GAP_S, MIN_MEANINGFUL_CEILING, type BathState } from './kinetics/bath.js';
 import { t0TableAt, type T0Table } from './kinetics/t0Table.js';
@@ -31,6 +31,7 @@ import {
 import { percentilesInPlace } from './random.js';
 import { BAND_QUANTITIES, sectionSizeMm, type BandQuantity, type BatchSetup, type Calibration } from './setup.js';
 import { t0CarbonWtPct, t0PrimeCarbonWtPct } from './thermo/index.js';
+import { temperatureBands, type TemperatureBandsC } from './temperatureBands.js';
 import { MODEL_VERSION } from './version.js';
 
 export interface Band {
@@ -43,6 +44,8 @@ export interface PredictOutput {
   modelVersion: string;
   material: BatchSetup['material'];
   temperaturesC: { ae1: number; ae3: number; bs: number; ms: number };
+  /** p05/p50/p95 of the critical temperatures from the formulas' reported errors and the chemistry tolerance (temperatureBands.ts). */
+  temperatureBandsC: TemperatureBandsC;
   t0: { bathTempC: number; t0CarbonWtPct: number; t0PrimeCarbonWtPct: number };
   bainite: {
     ceilingFraction: number;
@@ -228,6 +231,7 @@ export function finalizeBatch(state: BathState, opts: { calibration?: Calibratio
     modelVersion: MODEL_VERSION,
     material: setup.material,
     temperaturesC: { ae1: round(crit.ae1C, 1), ae3: round(crit.ae3C, 1), bs: round(crit.bsC, 1), ms: round(crit.msC, 1) },
+    temperatureBandsC: temperatureBands(model),
     t0: { bathTempC: round(bathMeanC, 2), t0CarbonWtPct: round(t0Nominal, 4), t0PrimeCarbonWtPct: round(t0PrimeNominal, 4) },
     bainite: {
       ceilingFraction: round(nom.ceiling, 4),
@@ -443,6 +447,13 @@ function collectWarnings(w: string[], c: WarningContext): void {
     );
   }
   if (c.diOutOfRange.length) w.push(`quench: ideal critical diameter is indicative only, A255 factors out of range: ${c.diOutOfRange.join('; ')}`);
+  // The A255 factors are for ASTM grain size 7 (§7.1); metallurgy.md does not give the grain-size carbon factors
+  // ("Other grain sizes need the A255 grain-size carbon factors [M]"), so DI is not corrected, only flagged.
+  if (setup.grainSizeAstm !== A255_GRAIN_SIZE_ASTM) {
+    w.push(
+      `quench.idealCriticalDiameterMm: computed for ASTM grain size ${A255_GRAIN_SIZE_ASTM} (the A255 factors' basis); the setup's grain size ${setup.grainSizeAstm} is not applied (the A255 grain-size carbon factors are not in our sources)`,
+    );
+  }
   if (!setup.heatTransferWPerM2K) {
     w.push(`quench: bath heat transfer ${fmt(c.quench.heatTransferWPerM2K, 0)} W/(m² K) is the uncalibrated default for '${setup.agitation}' agitation (from memory); calibrate it per line`);
   }
@@ -475,7 +486,11 @@ function collectWarnings(w: string[], c: WarningContext): void {
   w.push(
     'properties: hardness is a mixture of phase hardnesses from a component strength model (coefficients from memory, retained austenite assumed 300 HV), not a published relation for carbide-free bainite; its band is widened (ln-sd 0.08–0.10) – calibrate per product',
   );
-  if (isIron) w.push('properties: ADI tensile is read off the A897 grade table at the predicted hardness, and graphite is counted as zero hardness; the grade is a prediction to be confirmed by test');
+  if (isIron) {
+    w.push(
+      'properties.adiGrade: grade inferred from predicted hardness via the A897 table: the tensile it is graded on was itself interpolated from the A897 typical-HBW ranges at the predicted hardness (graphite counted as zero hardness), so it is a prediction, not a measurement; confirm by test',
+    );
+  }
   else w.push('properties: tensile from hardness (≈3.25·HV, order of ISO 18265 conversions, ±10 %) is approximate');
 
   // Thermodynamic description spread at the bath (§9.1) and segregation (§9.9).
@@ -484,7 +499,9 @@ function collectWarnings(w: string[], c: WarningContext): void {
     const tp = t0TableAt(t0Table, t0Table.t0PrimeCalphad, c.bathMeanC);
     const alt = t0TableAt(t0Table, t0Table.t0PrimeAlt, c.bathMeanC);
     if (Math.abs(tp - alt) > 0.05) {
-      w.push(`t0: the two thermodynamic descriptions differ by ${fmt(Math.abs(tp - alt), 3)} wt% in T0′ carbon at the bath; the spread is carried in the bands`);
+      w.push(
+        `t0: the CALPHAD T0′ and the constructed stronger-Mn/Ni 'alt' spread (standing in for the published temperature-shift descriptions, §9.1) differ by ${fmt(Math.abs(tp - alt), 3)} wt% in T0′ carbon at the bath; the spread is carried in the bands`,
+      );
     }
   }
   const mn = chem.Mn ?? 0;

@@ -21,10 +21,13 @@ describe('published hardness relations', () => {
   });
 
   it('A255 as-quenched martensite hardness rises with carbon and is clamped to its 0.1–0.7 wt% range', () => {
-    // ASTM A255-10(2014) HRC_M polynomial via metallurgy.md §6.2 [F2]; values [C].
+    // ASTM A255-10(2014) HRC_M polynomial via metallurgy.md §6.2 [F2]; 56.3 at 0.4 C is [C] (computed from that polynomial here,
+    // a regression value, not an outside measurement).
     expect(martensiteHrcA255(0.4)).toBeCloseTo(56.3, 1);
     expect(martensiteHrcA255(0.2)).toBeLessThan(martensiteHrcA255(0.4));
     expect(martensiteHrcA255(1.2)).toBe(martensiteHrcA255(0.7));
+    // ASTM E140 row HRC 50 ↔ HV 513 (metallurgy.md §6.4 / §8.6 [F2]); past its last row (HRC 60 ↔ HV 697) the
+    // extension keeps rising (our extrapolation, used only for fresh martensite).
     expect(hvFromHrcExtended(50)).toBe(513);
     expect(hvFromHrcExtended(65)).toBeGreaterThan(697);
   });

@@ -142,6 +142,17 @@ describe('FORMULAS', () => {
       expect(info.validity.length).toBeGreaterThan(5);
     }
     expect(formulaInfo('ms', 'van-bohemen').name).toBe('van Bohemen 2012');
+  });
+  it('fills a reported error only with its provenance: metallurgy.md quotes none, so every value is marked from memory', () => {
+    for (const info of Object.values(FORMULAS)) {
+      const values = [info.reportedErrorC, info.reportedErrorAe3C ?? null].filter((v) => v !== null);
+      if (values.length === 0) expect(info.reportedErrorSource).toMatch(/^none known/);
+      else expect(info.reportedErrorSource).toMatch(/FROM MEMORY \[M\]/);
+      for (const v of values) expect(v).toBeGreaterThan(0);
+    }
+    // Andrews 1965 Ac1 / Ac3 standard deviations 11.5 / 16.7 °C – from memory [M], not in metallurgy.md.
+    expect(formulaInfo('ae', 'andrews-1965')).toMatchObject({ reportedErrorC: 11.5, reportedErrorAe3C: 16.7 });
+    expect(formulaInfo('ms', 'van-bohemen').reportedErrorC).toBeNull();
     expect(() => formulaInfo('bs', 'nope' as BsFormula)).toThrow(/unknown bs formula/);
   });
 });

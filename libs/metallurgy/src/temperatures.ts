@@ -24,9 +24,20 @@ export interface FormulaInfo {
   name: string;
   source: string;
   validity: string;
-  /** Standard error reported by the authors, °C; null where metallurgy.md gives none. */
+  /**
+   * Standard error (1σ) reported by the authors, °C; for 'ae' entries the error of the Ae1 (Ac1) formula. null where
+   * no reported error is known. metallurgy.md §1 quotes NO reported error for any of these formulas, so every
+   * non-null value here is from memory [M] and says so in reportedErrorSource.
+   */
   reportedErrorC: number | null;
+  /** 'ae' entries: the reported standard error of the Ae3 (Ac3) formula, °C, or null. */
+  reportedErrorAe3C?: number | null;
+  /** Where reportedErrorC (and reportedErrorAe3C) come from, or why they are null. */
+  reportedErrorSource: string;
 }
+
+/** metallurgy.md gives no reported error for the formula, and we recall none: left null rather than guessed. */
+const NO_REPORTED_ERROR = 'none known: metallurgy.md §1 quotes no reported error for this formula and we recall none';
 
 /** Keyed 'ms:<MsFormula>', 'bs:<BsFormula>', 'ae:<AeFormula>' (use formulaInfo() for typed access). */
 export const FORMULAS: Record<string, FormulaInfo> = {
@@ -35,90 +46,111 @@ export const FORMULAS: Record<string, FormulaInfo> = {
     source: 'K.W. Andrews, JISI 203 (1965) 721–727; metallurgy.md §1.2 [F2]',
     validity: 'low-alloy steels, C 0.1–0.6 wt%; under-predicts at high C; no Si term',
     reportedErrorC: null,
+    reportedErrorSource: NO_REPORTED_ERROR,
   },
   'ms:kung-rayment': {
     name: 'Kung & Rayment 1982',
     source: 'C.Y. Kung, J.J. Rayment, Metall. Trans. A 13A (1982) 328, as Li et al. 1998 eq. 25; metallurgy.md §1.2 [F2]',
     validity: 'as Andrews linear (C 0.1–0.6) plus Co and Si terms; the linear formula for Si-rich steels',
     reportedErrorC: null,
+    reportedErrorSource: NO_REPORTED_ERROR,
   },
   'ms:andrews-parabolic': {
     name: 'Andrews 1965 (parabolic)',
     source: 'K.W. Andrews, JISI 203 (1965) 721–727; metallurgy.md §1.2 [F2]',
     validity: 'low-alloy steels, C 0.1–0.6 wt%',
     reportedErrorC: null,
+    reportedErrorSource: NO_REPORTED_ERROR,
   },
   'ms:steven-haynes': {
     name: 'Steven & Haynes 1956',
     source: 'W. Steven, A.G. Haynes, JISI 183 (1956) 349; metallurgy.md §1.2 [F2]',
     validity: 'low-alloy steels, C 0.1–0.55 wt%',
     reportedErrorC: null,
+    reportedErrorSource: NO_REPORTED_ERROR,
   },
   'ms:van-bohemen': {
     name: 'van Bohemen 2012',
     source: 'S.M.C. van Bohemen, Mater. Sci. Technol. 28 (2012) 487–495; metallurgy.md §1.2 [F2]',
     validity: 'low-alloy steels; exponential C term usable up to ≈1.2–1.5 wt% C (carbon-enriched austenite)',
     reportedErrorC: null,
+    reportedErrorSource: NO_REPORTED_ERROR,
   },
   'ms:mahieu': {
     name: 'Mahieu et al. 2002',
     source: 'Mahieu, Maki, De Cooman, Claessens, Metall. Mater. Trans. A 33 (2002) 2573 [M reference]; formula metallurgy.md §1.2 [F2]',
     validity: 'Si/Al TRIP steels',
     reportedErrorC: null,
+    reportedErrorSource: NO_REPORTED_ERROR,
   },
   'ms:capdevila': {
     name: 'Capdevila et al. 2002',
     source: 'Capdevila, Caballero, García de Andrés, ISIJ Int. 42 (2002) 894; metallurgy.md §1.2 [F2; W and Cu terms M]',
     validity: 'low-alloy steels; formula gives K, converted to °C',
     reportedErrorC: null,
+    reportedErrorSource: NO_REPORTED_ERROR,
   },
   'bs:steven-haynes': {
     name: 'Steven & Haynes 1956',
     source: 'W. Steven, A.G. Haynes, JISI 183 (1956) 349; metallurgy.md §1.3 [F2]',
     validity: 'low-alloy steels, C 0.1–0.55 wt%; no Si term',
     reportedErrorC: null,
+    reportedErrorSource: NO_REPORTED_ERROR,
   },
   'bs:kirkaldy-venugopalan': {
     name: 'Kirkaldy & Venugopalan 1983',
     source: 'Kirkaldy & Venugopalan 1983 (AIME), coefficients as in the MMTA Bs review doi 10.1007/s11661-019-05371-1; metallurgy.md §1.3 [F2]',
     validity: 'low-alloy steels; strong Si term, poor for 1.5–2.5 wt% Si',
     reportedErrorC: null,
+    reportedErrorSource: NO_REPORTED_ERROR,
   },
   'bs:li-1998': {
     name: 'Li et al. 1998 (KV with Si = 0.25)',
     source: 'Li, Niebuhr, Meekisho, Atteridge, Metall. Mater. Trans. B 29B (1998) 661, eq. 24; metallurgy.md §1.3 [F1]',
     validity: 'low-alloy steels; no Si dependence',
     reportedErrorC: null,
+    reportedErrorSource: NO_REPORTED_ERROR,
   },
   'bs:van-bohemen': {
     name: 'van Bohemen 2012',
     source: 'S.M.C. van Bohemen, Mater. Sci. Technol. 28 (2012) 487–495; metallurgy.md §1.3 [F2]',
     validity: 'low-alloy steels',
     reportedErrorC: null,
+    reportedErrorSource: NO_REPORTED_ERROR,
   },
   'ae:andrews-1965': {
     name: 'Andrews 1965 (Ac1 723 / Ac3 910 set)',
     source: 'K.W. Andrews, JISI 203 (1965) 721–727; metallurgy.md §1.1 [F2]. Labelled Ac in the codes that reproduce it; which Andrews set is Ae and which Ac is unconfirmed [M]',
     validity: 'low-alloy steels, C ≲ 0.6 wt%; Ac3 only for hypoeutectoid steels',
-    reportedErrorC: null,
+    reportedErrorC: 11.5,
+    reportedErrorAe3C: 16.7,
+    reportedErrorSource:
+      'FROM MEMORY [M]: Andrews 1965 is commonly quoted with standard deviations of 11.5 °C (Ac1) and 16.7 °C (Ac3); not in metallurgy.md – check against the paper before relying on it',
   },
   'ae:andrews-1965-extended': {
     name: 'Andrews 1965 Ac3 with the often-quoted extension',
     source: 'Andrews 1965 Ac3 + (−30Mn − 11Cr − 20Cu + 700P + 400Al + 400Ti); metallurgy.md §1.1 [extension M]. Ae1 as andrews-1965',
     validity: 'low-alloy steels, C ≲ 0.6 wt%, hypoeutectoid only',
-    reportedErrorC: null,
+    reportedErrorC: 11.5,
+    reportedErrorAe3C: null,
+    reportedErrorSource:
+      'Ae1 as andrews-1965 (11.5 °C, FROM MEMORY [M]); none known for the extended Ae3 (the extension itself is [M] in metallurgy.md §1.1)',
   },
   'ae:andrews-1965-second-set': {
     name: 'Andrews 1965 (Ae1 712 / Ae3 871 set)',
     source: 'Andrews 1965 as in github arthursn/transformation-diagrams transformation_models.py; metallurgy.md §1.1 [F2]',
     validity: 'low-alloy steels, hypoeutectoid for Ae3',
     reportedErrorC: null,
+    reportedErrorAe3C: null,
+    reportedErrorSource: NO_REPORTED_ERROR,
   },
   'ae:grange-1961': {
     name: 'Grange 1961',
     source: 'R.A. Grange, Met. Progr. 79 (1961), °F formula converted; metallurgy.md §1.1 [F2, Cr sign M]',
     validity: 'low-alloy steels, hypoeutectoid for Ae3',
     reportedErrorC: null,
+    reportedErrorAe3C: null,
+    reportedErrorSource: NO_REPORTED_ERROR,
   },
 };
 

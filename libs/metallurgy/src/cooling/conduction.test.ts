@@ -168,15 +168,39 @@ describe('finite-volume conduction solver', () => {
     expect(checked).toBeGreaterThan(10);
   });
 
-  it('conserves energy: with no surface flux the mean temperature stays put', () => {
-    const run = solveConduction({
-      shape: 'cylinder',
-      halfSizeM: 0.01,
-      props,
-      initialC: 500,
-      stages: [{ durationS: 50, ambientC: 20, heatTransferWPerM2K: () => 0 }],
-    });
-    expect(run.centreC[run.centreC.length - 1]).toBeCloseTo(500, 9);
+  it('conserves energy: the heat convected out through the surface equals the enthalpy the part lost (T-dependent k)', () => {
+    // Every step the surface loses h·(T_s − T_∞)·Δt per unit area (backward Euler uses the new surface temperature);
+    // summed to (near) equilibrium it must equal ρ·c_p·(V/A)·(T_i − T_end), with V/A = R/(m + 1) for plate,
+    // cylinder and sphere. A wrong control volume, face area or surface term breaks this; T-dependent conductivity
+    // must not (interior fluxes cancel pairwise).
+    const rho = 7850;
+    const cp = 600;
+    const varying = { conductivityWPerMK: (t: number) => 20 + 0.02 * t, specificHeatJPerKgK: () => cp, densityKgPerM3: rho };
+    const h = 800;
+    for (const shape of ['plate', 'cylinder', 'sphere'] as SectionShape[]) {
+      const R = 0.015;
+      const run = solveConduction({
+        shape,
+        halfSizeM: R,
+        props: varying,
+        initialC: 850,
+        stages: [{ durationS: 4000, ambientC: 300, heatTransferWPerM2K: () => h }],
+        dtS: 0.05,
+        dtMaxS: 2,
+      });
+      let lostJPerM2 = 0;
+      for (let i = 1; i < run.tS.length; i++) lostJPerM2 += h * (run.surfaceC[i] - 300) * (run.tS[i] - run.tS[i - 1]);
+      const last = run.tS.length - 1;
+      // The profile at the end is monotonic, so its mean lies between the surface and the centre.
+      const endMeanLo = Math.min(run.surfaceC[last], run.centreC[last]);
+      const endMeanHi = Math.max(run.surfaceC[last], run.centreC[last]);
+      const volumePerArea = R / (shape === 'plate' ? 1 : shape === 'cylinder' ? 2 : 3);
+      const drop = (mean: number) => rho * cp * volumePerArea * (850 - mean);
+      expect(endMeanHi - 300).toBeLessThan(1); // close enough to equilibrium that the check is sharp
+      expect(lostJPerM2).toBeLessThanOrEqual(drop(endMeanLo) * (1 + 1e-9));
+      expect(lostJPerM2).toBeGreaterThanOrEqual(drop(endMeanHi) * (1 - 1e-9));
+      expect(Math.abs(lostJPerM2 / drop(300) - 1)).toBeLessThan(2e-3);
+    }
   });
 
   it('stops early when asked, and more agitation cools faster', () => {

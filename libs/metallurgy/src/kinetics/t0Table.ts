@@ -1,10 +1,10 @@
 /**
  * T0/T0′ over the temperatures a batch actually visits, on a fixed absolute grid (multiples of 10 °C), with the
  * columns the ensemble needs to perturb T0′ without re-solving CALPHAD per member:
- *   T0 (calphad), T0′ (calphad, 400 J/mol), T0′ ('alt' description), ∂T0′/∂w_i for each perturbed substitutional.
+ *   T0 (calphad), T0′ (calphad, 400 J/mol), T0′ (the constructed 'alt' spread), ∂T0′/∂w_i for each perturbed substitutional.
  * A member's T0′ is then  T0′ + Σ ∂T0′/∂w_i·Δw_i + mix·(T0′alt − T0′) + (E/400 − 1)·(T0′ − T0)  (+ calibration bias):
  * linear in the chemistry deviation (tolerances are small), linear in the stored energy (ΔG_m is close to linear in
- * x_C over that span) and a straight mix between the two thermodynamic descriptions (§9.1).
+ * x_C over that span) and a straight mix between CALPHAD and the constructed 'alt' spread (§9.1).
  *
  * The grid is absolute and each node's values depend only on the chemistry, so a table grown lazily in pieces
  * holds exactly the numbers a table built at once would: incremental and from-scratch runs agree. T0′ varies

@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest';
 import { ae3C } from '../temperatures.js';
-import { feCBoundaries, feCEutectoid, gibbsCementite, ironCurieC, paraequilibriumAe3C, pureIronAlphaGammaC, pureIronGammaDeltaC } from './fe-c.js';
+import { bccIronHeatCapacity, feCBoundaries, feCEutectoid, gibbsCementite, ironCurieC, paraequilibriumAe3C, pureIronAlphaGammaC, pureIronGammaDeltaC } from './fe-c.js';
 
 describe('pure iron from the SGTE unary data (metallurgy.md §8.1)', () => {
   it('α/γ at 912 °C (handbook value; [C] 911.66 °C with the §2 set), ±1 K', () => {
@@ -10,8 +10,19 @@ describe('pure iron from the SGTE unary data (metallurgy.md §8.1)', () => {
   it('γ/δ at 1394 °C (handbook value; [C] 1394.3 °C), ±2 K', () => {
     expect(Math.abs(pureIronGammaDeltaC() - 1394)).toBeLessThanOrEqual(2);
   });
-  it('Curie point of bcc Fe 770 °C (1043 K, the SGTE TC input) – exact', () => {
-    expect(ironCurieC()).toBeCloseTo(769.85, 10);
+  it('Curie point of bcc Fe 770 °C (handbook value, metallurgy.md §8.1): the λ peak of the heat capacity −T·∂²G/∂T², ±0.5 K', () => {
+    // Derived from GHSERFE + the magnetic term, not read from the TC parameter: a wrong magnetic function moves it.
+    expect(Math.abs(ironCurieC() - 770)).toBeLessThanOrEqual(0.5);
+  });
+  it('the peak is the λ shape of the magnetic term: higher than 50 K either side, and c_p drops > 5 J/(mol K) across it', () => {
+    const tc = ironCurieC() + 273.15;
+    const peak = bccIronHeatCapacity(tc - 0.05);
+    expect(peak).toBeGreaterThan(bccIronHeatCapacity(tc - 50) + 3);
+    expect(peak).toBeGreaterThan(bccIronHeatCapacity(tc + 50) + 3);
+    expect(peak - bccIronHeatCapacity(tc + 0.2)).toBeGreaterThan(5);
+  });
+  it('c_p of α-Fe at 298 K ≈ 25.1 J/(mol K) (handbook value, from memory [M]; ±0.5)', () => {
+    expect(Math.abs(bccIronHeatCapacity(298.15) - 25.1)).toBeLessThanOrEqual(0.5);
   });
 });
 

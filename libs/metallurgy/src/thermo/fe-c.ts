@@ -11,7 +11,7 @@
  */
 import { carbonMoleFractionFromWtPct, type ChemistryWtPct } from '../chemistry.js';
 import { carbonPotential, latticePotential, solutionAt, thermoSiteFractions, uFromX, xFromU, type SolutionAtT } from './solution.js';
-import { ghserC } from './unaries.js';
+import { ghserC, ghserFe } from './unaries.js';
 import { magneticGibbs } from './magnetic.js';
 import { fccFeMinusBcc } from './unaries.js';
 
@@ -149,9 +149,45 @@ export function pureIronGammaDeltaC(): number {
   return bisect(pureIronFccMinusBcc, 1500, 1750, 1e-9) - 273.15;
 }
 
-/** Curie temperature of bcc iron, °C: the SGTE magnetic parameter TC = 1043 K (§2.2). */
+/** Gibbs energy of bcc (α) iron vs SER, magnetism included, J/mol (GHSERFE + Inden/Hillert–Jarl term, §2.1–2.2). */
+function bccIronGibbs(tempK: number): number {
+  return ghserFe(tempK) + magneticGibbs(tempK, 1043, 2.22, 'bcc');
+}
+
+/**
+ * Heat capacity of bcc iron, J/(mol K): c_p = −T·∂²G/∂T² of the SGTE description, by a central second difference
+ * (step 0.01 K; G is smooth on either side of the Curie point, where the magnetic term puts a λ-shaped peak).
+ */
+export function bccIronHeatCapacity(tempK: number): number {
+  const h = 0.01;
+  return (-tempK * (bccIronGibbs(tempK + h) - 2 * bccIronGibbs(tempK) + bccIronGibbs(tempK - h))) / (h * h);
+}
+
+/**
+ * Curie temperature of bcc iron, °C, as the DESCRIPTION gives it: the temperature of the heat-capacity (λ) peak of
+ * GHSERFE + G_mag, found by scanning 900–1200 K and refining by golden-section search. Derived from the Gibbs
+ * energy, so a wrong magnetic function (τ, p, D, the branch at τ = 1) moves it off the handbook 770 °C.
+ */
 export function ironCurieC(): number {
-  return 1043 - 273.15;
+  let bestK = 900;
+  let bestCp = Number.NEGATIVE_INFINITY;
+  for (let T = 900; T <= 1200; T += 0.5) {
+    const cp = bccIronHeatCapacity(T);
+    if (cp > bestCp) {
+      bestCp = cp;
+      bestK = T;
+    }
+  }
+  let a = bestK - 1;
+  let b = bestK + 1;
+  const g = (Math.sqrt(5) - 1) / 2;
+  while (b - a > 1e-3) {
+    const c = b - g * (b - a);
+    const d = a + g * (b - a);
+    if (bccIronHeatCapacity(c) > bccIronHeatCapacity(d)) b = d;
+    else a = c;
+  }
+  return 0.5 * (a + b) - 273.15;
 }
 
 let eutectoidCache: number | undefined;

@@ -23,6 +23,7 @@ export {
   pureIronAlphaGammaC,
   pureIronGammaDeltaC,
   ironCurieC,
+  bccIronHeatCapacity,
   pureIronFccMinusBcc,
   paraequilibriumAe3C,
 } from './fe-c.js';

@@ -102,22 +102,27 @@ describe('named steels (metallurgy.md §8.2 [C]; see the note on the column labe
       expect(Math.abs(xT0p(chem, 350) - at350[0])).toBeLessThanOrEqual(0.0002);
       expect(Math.abs(xT0p(chem, 400) - at400[0])).toBeLessThanOrEqual(0.0002);
     });
-    it(`${name}: 'alt' T0′ follows column 2 (fitted, ±0.0025)`, () => {
-      expect(Math.abs(xT0p(chem, 300, 'alt') - at300[1])).toBeLessThanOrEqual(0.0025);
-      expect(Math.abs(xT0p(chem, 350, 'alt') - at350[1])).toBeLessThanOrEqual(0.0025);
-      expect(Math.abs(xT0p(chem, 400, 'alt') - at400[1])).toBeLessThanOrEqual(0.0025);
+    // Fit regression, NOT a validation: these 15 column-2 values are the data the constructed 'alt' shifts were
+    // fitted to (thermo/t0.ts). It guards the fit (max residual 0.0019 in x_C, rms 0.0010) against later edits.
+    it(`${name}: fit regression of the constructed 'alt' T0′ on its own fitting data, column 2 (±0.002)`, () => {
+      expect(Math.abs(xT0p(chem, 300, 'alt') - at300[1])).toBeLessThanOrEqual(0.002);
+      expect(Math.abs(xT0p(chem, 350, 'alt') - at350[1])).toBeLessThanOrEqual(0.002);
+      expect(Math.abs(xT0p(chem, 400, 'alt') - at400[1])).toBeLessThanOrEqual(0.002);
     });
   }
   it('lever rule for Fe–0.43C–2.12Si–3Mn at 350 °C, s_b = 0.03: CALPHAD T0′ 0.86 wt% → V_b,max 0.52; alt ≈ 0.54 wt% → ≈ 0.22 (§8.2 [C])', () => {
+    // The constructed 'alt' gives 0.532 wt% (its fit residual at this point is −0.0005 in x_C ≈ −0.012 wt%), hence a
+    // lever of 0.203: the §8.2 "≈ 0.22" is (0.54 − 0.43)/(0.54 − 0.03) = 0.216 rounded, and the lever moves
+    // 1.6 per wt% of T0′ here. So ±0.01 wt% and ±0.02 are what this model gives, not a loose band.
     const chem = NAMED[0][1];
     const cal = t0PrimeCarbonWtPct(chem, 350);
     const alt = t0PrimeCarbonWtPct(chem, 350, { description: 'alt' });
     expect(cal).toBeCloseTo(0.86, 2);
     expect((cal - 0.43) / (cal - 0.03)).toBeCloseTo(0.52, 2);
-    expect(Math.abs(alt - 0.54)).toBeLessThanOrEqual(0.05);
-    expect(Math.abs((alt - 0.43) / (alt - 0.03) - 0.22)).toBeLessThanOrEqual(0.07);
+    expect(Math.abs(alt - 0.54)).toBeLessThanOrEqual(0.01);
+    expect(Math.abs((alt - 0.43) / (alt - 0.03) - 0.22)).toBeLessThanOrEqual(0.02);
   });
-  it('the fitted alt shifts are γ-stabilising and stronger for Mn than for Ni per at.%', () => {
+  it('the fitted (constructed) alt shifts are γ-stabilising and stronger for Mn than for Ni per at.%', () => {
     expect(ALT_SHIFT_K_PER_AT_PCT.Mn).toBeGreaterThan(ALT_SHIFT_K_PER_AT_PCT.Ni);
     expect(ALT_SHIFT_K_PER_AT_PCT.Ni).toBeGreaterThan(0);
   });
