@@ -2,18 +2,20 @@
  * scripts/ci-summary.ts, the last line of .ci/run. The sample reports have the shape vitest's JSON reporter
  * writes (node_modules/vitest, JsonReporter.onTestRunEnd): a file whose top-level code throws is reported
  * with status "failed", its error in `message` and no assertion results; a file whose beforeAll throws has
- * its tests "skipped".
+ * its tests "skipped". The last test has vitest write such a report for real (three tiny files in a scratch
+ * folder under test-output/) and checks the summary of it.
  */
 import { execFile } from 'node:child_process';
-import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
+import { mkdirSync, mkdtempSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { promisify } from 'node:util';
 import { afterAll, describe, expect, it } from 'vitest';
-import { summarizeVitestRun, type VitestJsonReport } from '../../scripts/ci-summary.js';
+import { readVitestReport, summarizeVitestRun, type VitestJsonReport } from '../../scripts/ci-summary.js';
 
 const run = promisify(execFile);
-const SCRIPT = join(import.meta.dirname, '../../scripts/ci-summary.ts');
+const REPO = join(import.meta.dirname, '../..');
+const SCRIPT = join(REPO, 'scripts/ci-summary.ts');
 const dir = mkdtempSync(join(tmpdir(), 'ausline-ci-summary-'));
 afterAll(() => rmSync(dir, { recursive: true, force: true }));
 
@@ -75,4 +77,32 @@ describe('the script as .ci/run calls it', () => {
     expect(await summary(undefined, 0)).toBe('0 passed, 1 failed');
     expect(await summary('{"numPassedTests": 3', 0)).toBe('0 passed, 1 failed');
   });
+});
+
+describe('over a report vitest really wrote', () => {
+  it('counts a file that threw at the top level and one whose beforeAll threw, where numFailedTests says 0', async () => {
+    // Inside the repository (test-output/ is ignored by git) so the sample files resolve vitest from node_modules.
+    mkdirSync(join(REPO, 'test-output'), { recursive: true });
+    const sample = mkdtempSync(join(REPO, 'test-output', 'ci-summary-'));
+    try {
+      writeFileSync(join(sample, 'vitest.config.mjs'), "export default { test: { include: ['*.test.mjs'] } };\n");
+      writeFileSync(join(sample, 'ok.test.mjs'), "import { expect, it } from 'vitest';\nit('passes', () => expect(1).toBe(1));\n");
+      writeFileSync(join(sample, 'throws.test.mjs'), "import { it } from 'vitest';\nthrow new Error('setup failed');\nit('never runs', () => {});\n");
+      writeFileSync(join(sample, 'hook.test.mjs'), "import { beforeAll, it } from 'vitest';\nbeforeAll(() => { throw new Error('seed failed'); });\nit('skipped', () => {});\n");
+      const reportPath = join(sample, 'report.json');
+      const status = await run(process.execPath, [join(REPO, 'node_modules/vitest/vitest.mjs'), 'run', '--root', sample, '--reporter=json', `--outputFile.json=${reportPath}`], {
+        cwd: sample,
+        env: { ...process.env, NO_COLOR: '1' },
+      }).then(
+        () => 0,
+        (error: { code?: number }) => error.code ?? 1,
+      );
+      expect(status).toBe(1);
+      const report = readVitestReport(reportPath);
+      expect(report).toMatchObject({ numPassedTests: 1, numFailedTests: 0 });
+      expect(summarizeVitestRun(report, status).line).toBe('1 passed, 2 failed');
+    } finally {
+      rmSync(sample, { recursive: true, force: true });
+    }
+  }, 60_000);
 });
