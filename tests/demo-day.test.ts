@@ -114,8 +114,8 @@ describe('the demo day against the real service', () => {
   });
 
   it('leaves nothing of a transient deviation open (a half-recorded load seen by the worker is cleared once whole)', async () => {
-    // While catching up, a load's four events are sent together; if one takes longer than the worker's
-    // debounce, the worker may judge the load half recorded and clear that later (requests.md S: 3b, 4).
+    // While catching up, a load's four events are sent together; a recompute that starts before the last of
+    // them is stored may judge the load half recorded, and its follow-up clears that (requests.md S: 3b, 4).
     const cleared = await prisma.deviation.findMany({ where: { status: 'CLEARED', rule: { in: [...PROCESS_WINDOW_RULES] } }, include: { batch: { select: { code: true } } } });
     console.log(`transient process-window deviations (opened, then cleared): ${cleared.length}`);
     const open = await prisma.deviation.count({ where: { status: { not: 'CLEARED' }, rule: { in: [...PROCESS_WINDOW_RULES] } } });

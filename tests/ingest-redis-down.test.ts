@@ -66,6 +66,28 @@ describe('ingest with Redis down', () => {
     expect(again.staleSince!.getTime()).toBeGreaterThan(firstStale.staleSince!.getTime());
   });
 
+  it('still answers 201 with the event stored when marking the batch stale fails too', async () => {
+    const batch = await createBatchViaApi(world);
+    // Postgres refuses the stale flag (and only that: the event's own write sets the status, not "stale"),
+    // as if it went away between the event's commit and the flag.
+    await world.db.pool.query(`
+      CREATE FUNCTION refuse_stale_flag() RETURNS trigger LANGUAGE plpgsql AS $$
+      BEGIN RAISE EXCEPTION 'stale flag refused by the test'; END $$;
+      CREATE TRIGGER refuse_stale_flag BEFORE UPDATE OF "stale" ON "Batch"
+        FOR EACH ROW EXECUTE FUNCTION refuse_stale_flag();`);
+    try {
+      const reply = await postEvent(world, batch.id, 'CHARGED', Date.now() - 3_600_000);
+      expect(reply.status).toBe(201);
+      expect(reply.body).toMatchObject({ outcome: 'created', batchStatus: 'IN_FURNACE' });
+      const events = await world.db.prisma.loadEvent.findMany({ where: { batchId: batch.id } });
+      expect(events.map((e) => e.kind)).toEqual(['CHARGED']);
+      // The flag really was refused: the reply did not succeed because the update went through.
+      expect(await staleOf(batch.id)).toEqual({ stale: false, staleSince: null });
+    } finally {
+      await world.db.pool.query('DROP TRIGGER refuse_stale_flag ON "Batch"; DROP FUNCTION refuse_stale_flag()');
+    }
+  });
+
   it('counts the failed enqueues in the metrics', async () => {
     const res = await fetch(`${world.api.url}/metrics`);
     const text = await res.text();

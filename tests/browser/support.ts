@@ -17,23 +17,19 @@ import { loadConfig, RECOMPUTE_QUEUE, type AppConfig } from '@ausline/contracts'
 import { createApiApp, type ApiHandle } from '../../apps/api/src/create-api-app.js';
 import { startWorker, type RunningWorker } from '../../apps/worker/src/start-worker.js';
 import { createTestDatabase, type TestDatabase } from '../support/database.js';
+import { CHROMIUM, requireChromium } from '../support/chromium.js';
 import { testAppEnv } from '../support/env.js';
 import { testQueuePrefix } from '../support/redis.js';
 import type { BrowserElement, BrowserWindow } from './browser-globals.js';
 
-export const CHROMIUM = '/usr/bin/chromium';
 export const REPO = fileURLToPath(new URL('../..', import.meta.url)).replace(/\/$/, '');
 export const SCREENSHOTS = join(REPO, 'test-output', 'screenshots');
 /** The plant's zone; the browser runs in another one so a screen that used the browser's clock would show. */
 export const PLANT_TIME_ZONE = 'Europe/Berlin';
 export const BROWSER_TIME_ZONE = 'America/New_York';
 
-/** Fails (never skips) when Chromium is missing, with the command that installs it. */
-export function requireChromium(): void {
-  if (!existsSync(CHROMIUM)) {
-    throw new Error(`Chromium is not installed at ${CHROMIUM}. Install it with: apt-get update && apt-get install -y chromium`);
-  }
-}
+/** Fails (never skips) when Chromium is missing, with the command that installs it (tests/support/chromium.ts). */
+export { CHROMIUM, requireChromium };
 
 /** Builds the dashboard with Vite into a fresh folder (the same build `npm run build:dashboard` makes). */
 export function buildDashboard(): string {

@@ -7,11 +7,23 @@ import { fileURLToPath } from 'node:url';
 import { describe, expect, it } from 'vitest';
 import { createTestDatabase } from '../support/database.js';
 import { requireServices } from '../support/global-setup.js';
+import { browserTestFiles, INSTALL_CHROMIUM, requireChromium, runNeedsChromium } from '../support/chromium.js';
 import { testQueuePrefix, deleteRedisKeys, createTestRedis } from '../support/redis.js';
 import { adminDatabaseUrl, START_POSTGRES, START_REDIS, TEST_REDIS_URL } from '../support/env.js';
 import pg from 'pg';
 
 const root = fileURLToPath(new URL('../../', import.meta.url));
+
+/** A whole `vitest run FILE` in a child process, with `env` on top of this one's. */
+function vitestRun(file: string, env: Record<string, string>) {
+  const run = spawnSync(process.execPath, [`${root}node_modules/vitest/vitest.mjs`, 'run', file], {
+    cwd: root,
+    encoding: 'utf8',
+    env: { ...process.env, ...env, NO_COLOR: '1' },
+    timeout: 60_000,
+  });
+  return { run, output: `${run.stdout}${run.stderr}` };
+}
 
 describe('service check', () => {
   it('passes when Postgres and Redis answer', async () => {
@@ -43,22 +55,52 @@ describe('service check', () => {
 
   it('a whole vitest run stops at once with the commands when Postgres is down', () => {
     const started = Date.now();
-    const run = spawnSync(
-      process.execPath,
-      [`${root}node_modules/vitest/vitest.mjs`, 'run', 'tests/compose/compose.test.ts'],
-      {
-        cwd: root,
-        encoding: 'utf8',
-        env: { ...process.env, TEST_DATABASE_URL: 'postgresql://postgres@127.0.0.1:1/postgres', NO_COLOR: '1' },
-        timeout: 60_000,
-      },
-    );
-    const output = `${run.stdout}${run.stderr}`;
+    const { run, output } = vitestRun('tests/compose/compose.test.ts', { TEST_DATABASE_URL: 'postgresql://postgres@127.0.0.1:1/postgres' });
     expect(run.status, output).not.toBe(0);
     expect(output).toContain(START_POSTGRES);
     expect(output).not.toContain('Tests  10 passed');
     // Not a minute of hook timeouts: vitest start-up plus the 2 s check.
     expect(Date.now() - started).toBeLessThan(20_000);
+  }, 60_000);
+});
+
+describe('Chromium check', () => {
+  it('passes for an executable and names the install command for a missing one', () => {
+    expect(() => requireChromium(process.execPath)).not.toThrow();
+    expect(() => requireChromium('/nonexistent/chromium')).toThrow(/Chromium at \/nonexistent\/chromium/);
+    expect(() => requireChromium('/nonexistent/chromium')).toThrow(INSTALL_CHROMIUM);
+    expect(INSTALL_CHROMIUM).toBe('apt-get update && apt-get install -y chromium');
+  });
+
+  it('knows which files drive Chromium, and asks for it only when the run includes one', () => {
+    const files = browserTestFiles();
+    expect(files).toContain('tests/browser/dashboard.test.ts');
+    expect(files).toContain('tests/demo-day.test.ts');
+    expect(files).not.toContain('tests/ingest-samples.test.ts');
+    expect(runNeedsChromium([])).toBe(true);
+    expect(runNeedsChromium(undefined)).toBe(true);
+    expect(runNeedsChromium(['tests/browser'])).toBe(true);
+    expect(runNeedsChromium(['./tests/browser/dashboard.test.ts'])).toBe(true);
+    expect(runNeedsChromium([`${root}tests/demo-day.test.ts`])).toBe(true);
+    expect(runNeedsChromium(['dashboard'])).toBe(true);
+    expect(runNeedsChromium(['tests/ingest-samples.test.ts', 'tests/compose'])).toBe(false);
+  });
+
+  it('a vitest run of a browser test stops at once with the install command when Chromium is missing', () => {
+    const started = Date.now();
+    const { run, output } = vitestRun('tests/browser/chart-draw.test.ts', { CHROMIUM_PATH: '/nonexistent/chromium' });
+    expect(run.status, output).not.toBe(0);
+    expect(output).toContain('The browser tests need Chromium at /nonexistent/chromium');
+    expect(output).toContain(INSTALL_CHROMIUM);
+    // Stopped by the setup: no test file ran (a file that ran would report its tests).
+    expect(output).not.toMatch(/Tests\s+\d+ (passed|failed)/);
+    expect(Date.now() - started).toBeLessThan(20_000);
+  }, 60_000);
+
+  it('a run without browser tests does not ask for Chromium', () => {
+    const { run, output } = vitestRun('tests/compose/compose.test.ts', { CHROMIUM_PATH: '/nonexistent/chromium' });
+    expect(run.status, output).toBe(0);
+    expect(output).not.toContain('need Chromium');
   }, 60_000);
 });
 

@@ -1,7 +1,8 @@
 /**
  * Vitest globalSetup (registered in the root vitest.config.ts), once per `vitest run`:
- * 1. checks that Postgres and Redis answer within 2 s; if not, stops the run at once and prints the
- *    commands that start them (instead of a minute of hook timeouts later);
+ * 1. checks that Postgres and Redis answer within 2 s, and that Chromium is installed when the run includes
+ *    browser tests; if not, stops the run at once and prints the commands that start or install them
+ *    (instead of a minute of hook timeouts later);
  * 2. drops test databases left behind by crashed runs (by name prefix and age);
  * 3. creates a template database and applies prisma/migrations to it; each test file clones it with
  *    createTestDatabase() (tests/support/database.ts);
@@ -17,6 +18,7 @@ import { Redis } from 'ioredis';
 import pg from 'pg';
 import type { TestProject } from 'vitest/node';
 import { runMigrations } from '../../libs/db/src/migrate/run-migrations.js';
+import { requireChromium, runNeedsChromium } from './chromium.js';
 import {
   REDIS_TEST_PREFIX,
   START_POSTGRES,
@@ -53,6 +55,8 @@ export default async function setup(project: TestProject): Promise<(() => Promis
   const pureOnly = Array.isArray(filters) && filters.length > 0 && filters.every((f) => PURE_FILTER.test(f));
   if (process.env.AUSLINE_TEST_SERVICES === 'off' || pureOnly) return;
 
+  // Browser tests need Chromium: checked first, it costs nothing and saves building a template for nothing.
+  if (runNeedsChromium(filters)) requireChromium();
   await requireServices();
   await dropStaleTestDatabases();
   await deleteStaleRedisKeys().catch(() => {});

@@ -36,7 +36,8 @@ export interface RequestRecord {
 }
 
 /** Requests sent together, concurrently (e.g. the four events of a load released at once: they reach the
- *  server within one round trip, so its debounced recompute sees them together). */
+ *  server within one round trip, so its per-batch coalesced recompute folds them into at most one
+ *  follow-up job instead of one recompute per event). */
 export interface RequestGroup {
   describe: string;
   requests: RequestRecord[];

@@ -317,8 +317,8 @@ export class Simulator {
       if (requests.length === 1) {
         line.controller.pushRequest(requests[0]!);
       } else {
-        // Several steps at once (catching up): sent concurrently, so the server's debounced recompute sees
-        // the load whole rather than half recorded.
+        // Several steps at once (catching up): sent concurrently, so the server's coalesced recompute (at
+        // most one job running and one waiting per batch) ends on the load whole, not half recorded.
         if (due.length === EVENT_STEPS.length) this.releasedTogether += 1;
         line.controller.pushGroup({ describe: `events of ${load.code}`, requests });
       }

@@ -143,3 +143,7 @@ export const DriftChartQuery = z.strictObject({
   last: z.coerce.number().int().min(1).max(5000).optional(),
 });
 export type DriftChartQuery = z.infer<typeof DriftChartQuery>;
+
+/** GET /v1/drift/charts: every chart of a product spec, on one line or all. */
+export const DriftOverviewQuery = z.strictObject({ specId: z.uuid('not a UUID'), lineId: z.uuid('not a UUID').optional() });
+export type DriftOverviewQuery = z.infer<typeof DriftOverviewQuery>;

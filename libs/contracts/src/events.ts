@@ -24,3 +24,12 @@ export const LiveEvent = z.discriminatedUnion('type', [
   }),
 ]);
 export type LiveEvent = z.infer<typeof LiveEvent>;
+
+/** GET /v1/stream: which live events a client wants. */
+export const StreamQuery = z.strictObject({
+  /** Session token for clients that cannot set headers (EventSource); see the api's StreamTokenMiddleware. */
+  token: z.string().optional(),
+  lineId: z.uuid('not a UUID').optional(),
+  batchId: z.uuid('not a UUID').optional(),
+});
+export type StreamQuery = z.infer<typeof StreamQuery>;

@@ -6,3 +6,4 @@ export * from './admin.js';
 export * from './config.js';
 export * from './prediction.js';
 export * from './drift.js';
+export * from './series.js';

@@ -227,3 +227,10 @@ export const ProductSpecVersionInput = z.strictObject({
   acceptanceCriteria: AcceptanceCriteria,
 });
 export type ProductSpecVersionInput = z.infer<typeof ProductSpecVersionInput>;
+
+/** Path of one version of a product spec (`/v1/specs/{id}/versions/{version}`, and its drift settings). */
+export const SpecVersionParams = z.object({
+  id: z.uuid('not a UUID'),
+  version: z.coerce.number().int('must be a whole number').positive('must be 1 or more'),
+});
+export type SpecVersionParams = z.infer<typeof SpecVersionParams>;

@@ -28,7 +28,8 @@ const ADMIN: AccessRule = { roles: ['ADMIN'] };
 const SIGNED_IN: AccessRule = { roles: ANY_ROLE };
 const PUBLIC: AccessRule = { public: true };
 const QUALITY: AccessRule = { roles: ['QUALITY'] };
-/** Heats and lab results: a lab's key, or a quality/metallurgy user typing them in. */
+/** Heats and lab results: a lab's key, or a quality/metallurgy user typing them in (lab technicians and shift
+ *  staff sign in as metallurgists; why data entry is wider than the decisions: DEVELOPERS.md, "Roles"). */
 const LAB_WRITERS: AccessRule = { keys: 'LAB', roles: ['QUALITY', 'METALLURGIST'] };
 
 export const ENDPOINT_MATRIX: readonly EndpointEntry[] = [

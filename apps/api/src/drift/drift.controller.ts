@@ -1,18 +1,10 @@
 import { Body, Controller, Get, Param, Put, Query } from '@nestjs/common';
 import { ApiOperation, ApiTags } from '@nestjs/swagger';
-import { z } from 'zod';
-import { DriftChartQuery, DriftChartsSettings } from '@ausline/contracts';
+import { DriftChartQuery, DriftChartsSettings, DriftOverviewQuery, SpecVersionParams } from '@ausline/contracts';
 import { Access, ANY_ROLE } from '../auth/access.js';
 import { ApiErrors, ZodBody, ZodQuery } from '../http/openapi.js';
 import { parseBody, parseParams, parseQuery, UuidParam } from '../http/validation.js';
 import { DriftQueryService } from './drift.service.js';
-
-const VersionParams = z.object({
-  id: z.uuid('not a UUID'),
-  version: z.coerce.number().int('must be a whole number').positive('must be 1 or more'),
-});
-
-const OverviewQuery = z.strictObject({ specId: z.uuid('not a UUID'), lineId: z.uuid('not a UUID').optional() });
 
 @ApiTags('drift')
 @Controller()
@@ -37,10 +29,10 @@ export class DriftController {
   @Get('drift/charts')
   @Access({ roles: ANY_ROLE })
   @ApiOperation({ summary: 'Every drift chart of a product spec (optionally one line) as the worker last evaluated it: status, limits version, lots, episodes' })
-  @ZodQuery(OverviewQuery)
+  @ZodQuery(DriftOverviewQuery)
   @ApiErrors(400, 404)
   overview(@Query() query: unknown) {
-    const q = parseQuery(OverviewQuery, query);
+    const q = parseQuery(DriftOverviewQuery, query);
     return this.drift.overview(q.specId, q.lineId);
   }
 
@@ -61,7 +53,7 @@ export class DriftController {
   @ZodBody(DriftChartsSettings)
   @ApiErrors(400, 404, 409)
   put(@Param() params: unknown, @Body() body: unknown) {
-    const { id, version } = parseParams(VersionParams, params);
+    const { id, version } = parseParams(SpecVersionParams, params);
     return this.drift.setSettings(id, version, parseBody(DriftChartsSettings, body));
   }
 }

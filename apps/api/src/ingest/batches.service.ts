@@ -159,7 +159,7 @@ export class BatchesService {
     const future = futureTimeIssue(atMs, Date.now(), this.maxFutureMs, 'at');
     if (future) throw unprocessable(`Event refused: at: ${future.message}`, [future]);
 
-    const result = await this.prisma.$transaction(async (tx) => {
+    const reply = await this.prisma.$transaction(async (tx) => {
       // Lock the batch: events of one load are checked against each other and must not interleave.
       const locked = await tx.$queryRaw<Array<{ id: string; lineId: string }>>`
         SELECT "id", "lineId" FROM "Batch" WHERE "id" = ${batchId}::uuid FOR UPDATE`;
@@ -190,7 +190,7 @@ export class BatchesService {
       const same = events.find((e) => e.kind === input.kind);
       if (same) {
         if (same.at.getTime() === atMs && same.equipmentId === equipment.id) {
-          return { outcome: 'unchanged' as const, event: same, batchStatus: statusFrom(events), changed: false };
+          return { outcome: 'unchanged' as const, event: same, batchStatus: statusFrom(events) };
         }
         throw conflict(
           `${input.kind} is already recorded for this batch at ${same.at.toISOString()}${same.equipmentId !== equipment.id ? ' from other equipment' : ''}; it is not changed`,
@@ -203,10 +203,12 @@ export class BatchesService {
       const event = await tx.loadEvent.create({ data: { batchId, kind: input.kind, at: new Date(atMs), equipmentId: equipment.id } });
       const batchStatus = statusFrom([...events, event]);
       await tx.batch.update({ where: { id: batchId }, data: { status: batchStatus } });
-      return { outcome: 'created' as const, event, batchStatus, changed: true };
+      return { outcome: 'created' as const, event, batchStatus };
     });
-    if (result.changed) await this.recompute.enqueue([batchId], 'load-event');
-    const { changed: _changed, ...reply } = result;
+    // Queued on "unchanged" too: a retry may follow a first attempt that committed and then died before it
+    // queued anything, and nothing else would recompute a finished batch. The deduplicated job id folds
+    // this into the batch's pending recompute, so a plain retry costs one Redis call.
+    await this.recompute.enqueue([batchId], 'load-event');
     return reply;
   }
 
@@ -227,7 +229,7 @@ export class BatchesService {
       return { outcome: 'unchanged', labResult: existing };
     };
     const existing = await find();
-    if (existing) return compare(existing);
+    if (existing) return this.requeued(batchId, compare(existing));
     let labResult: LabResult;
     try {
       labResult = await this.prisma.labResult.create({
@@ -236,12 +238,22 @@ export class BatchesService {
     } catch (error) {
       if (error instanceof Prisma.PrismaClientKnownRequestError && error.code === 'P2002') {
         const raced = await find();
-        if (raced) return compare(raced);
+        if (raced) return this.requeued(batchId, compare(raced));
       }
       throw error;
     }
     await this.recompute.enqueue([batchId], 'lab-result');
     return { outcome: 'created', labResult };
+  }
+
+  /**
+   * An unchanged lab result is queued again, as an unchanged load event is: the first attempt may have
+   * committed and died before it queued the batch. Only a reply that matches the stored row gets here (a
+   * conflict throws first), so nothing is queued for a refused write.
+   */
+  private async requeued(batchId: string, reply: LabResultResult): Promise<LabResultResult> {
+    await this.recompute.enqueue([batchId], 'lab-result');
+    return reply;
   }
 }
 

@@ -97,10 +97,33 @@ export class RecomputeQueue implements OnApplicationShutdown {
         reason,
         error: firstError instanceof Error ? firstError.message : String(firstError),
       });
-      await this.markStale(failed);
       recomputeEnqueueFailuresTotal.inc(failed.length);
+      const marked = await this.markStaleOrLog(failed, reason);
+      return { enqueued: ids.length - failed.length, markedStale: marked ? failed.length : 0 };
     }
-    return { enqueued: ids.length - failed.length, markedStale: failed.length };
+    return { enqueued: ids.length, markedStale: 0 };
+  }
+
+  /**
+   * The caller's data is committed, so a failure here must not turn its reply into a 500 (the controller
+   * would retry a write that is already stored). Postgres gone between the commit and this update leaves
+   * the batch neither queued nor flagged; the worker's reconciler re-evaluates loads in progress, and a
+   * retry of the post queues the batch again (unchanged writes enqueue too).
+   */
+  private async markStaleOrLog(batchIds: string[], reason: RecomputeReason): Promise<boolean> {
+    try {
+      await this.markStale(batchIds);
+      return true;
+    } catch (error) {
+      this.logger.event('error', {
+        msg: 'recompute not enqueued and batches not marked stale; left to the reconciler and retries',
+        batches: batchIds.length,
+        batchIds,
+        reason,
+        error: error instanceof Error ? error.message : String(error),
+      });
+      return false;
+    }
   }
 
   private add(batchId: string, reason: RecomputeReason): Promise<unknown> {

@@ -51,7 +51,7 @@ interface Outcome {
  * covering its whole span, and so does a replay: an earlier attempt may have committed its rows and
  * died before queueing (docs/reliability.md), and its retry must not leave the batch without a
  * recompute. Those re-queues are not counted in `batchesQueued` (they queue no new data; the queue
- * folds them into one debounced job per batch).
+ * folds them into the batch's one pending job: recomputeJobOptions in libs/contracts).
  */
 @Injectable()
 export class SamplesService implements OnApplicationShutdown {

@@ -1,7 +1,6 @@
 import { Body, Controller, Get, HttpCode, Param, Post, Res } from '@nestjs/common';
 import { ApiOperation, ApiTags } from '@nestjs/swagger';
-import { z } from 'zod';
-import { ProductSpecCreate, ProductSpecVersionInput } from '@ausline/contracts';
+import { ProductSpecCreate, ProductSpecVersionInput, SpecVersionParams } from '@ausline/contracts';
 import type { ProductSpecVersion } from '@ausline/db';
 import { Access, actorName, ANY_ROLE, CurrentPrincipal, type Principal } from '../auth/access.js';
 import { ApiErrors, ZodBody } from '../http/openapi.js';
@@ -9,11 +8,6 @@ import { parseBody, parseParams, UuidParam } from '../http/validation.js';
 import { Idempotent } from './idempotency.js';
 import { countIngest } from './ingest-metrics.js';
 import { SpecsService, type SpecCreateResult, type SpecWithVersions } from './specs.service.js';
-
-const VersionParams = z.object({
-  id: z.uuid('not a UUID'),
-  version: z.coerce.number().int('must be a whole number').positive('must be 1 or more'),
-});
 
 interface StatusSettable {
   status(code: number): unknown;
@@ -56,7 +50,7 @@ export class SpecsController {
   })
   @ApiErrors(400, 404, 409)
   approve(@Param() params: unknown, @CurrentPrincipal() principal: Principal): Promise<ProductSpecVersion> {
-    const { id, version } = parseParams(VersionParams, params);
+    const { id, version } = parseParams(SpecVersionParams, params);
     return this.specs.approve(id, version, actorName(principal));
   }
 

@@ -1,21 +1,13 @@
 import type { IncomingMessage, ServerResponse } from 'node:http';
 import { Controller, Get, Inject, Query, Req, Res, type BeforeApplicationShutdown } from '@nestjs/common';
 import { ApiOkResponse, ApiOperation, ApiProduces, ApiQuery, ApiTags } from '@nestjs/swagger';
-import { z } from 'zod';
-import type { LiveEvent } from '@ausline/contracts';
+import { StreamQuery, type LiveEvent } from '@ausline/contracts';
 import { API_CONFIG, type ApiConfig } from '../app-config.js';
 import { Access, ANY_ROLE } from '../auth/access.js';
 import { ApiErrors } from '../http/openapi.js';
 import { parseQuery } from '../http/validation.js';
 import { ingestSettingsFrom } from '../ingest/ingest-settings.js';
 import { LiveEventsHub } from './live-events.hub.js';
-
-const StreamQuery = z.strictObject({
-  /** Session token for clients that cannot set headers (EventSource); see StreamTokenMiddleware. */
-  token: z.string().optional(),
-  lineId: z.uuid('not a UUID').optional(),
-  batchId: z.uuid('not a UUID').optional(),
-});
 
 /** Tells the browser how long to wait before reconnecting a dropped stream. */
 const RECONNECT_MS = 3_000;
