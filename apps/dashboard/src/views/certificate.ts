@@ -1,5 +1,6 @@
 import type { ViewFactory } from '../app/view.js';
 import { fmtC, fmtDisposition, fmtKg, fmtLimits, fmtMin, fmtNum, fmtRule, fmtS, fmtSection } from '../lib/format.js';
+import { acceptanceMeasuredText, fmtAcceptanceCriterion, fmtAcceptanceVerdict, fmtAgainstPrediction, fmtLabKind, labResultText } from '../lib/lab-text.js';
 import { criterionName } from '../lib/prediction.js';
 import { formatDateTime } from '../lib/time.js';
 import { button, h, link, replace } from '../ui/dom.js';
@@ -122,13 +123,13 @@ export const certificateView: ViewFactory = (ctx, route) => {
             h('caption', null, 'Acceptance tests against the spec'),
             h('thead', null, h('tr', null, ...['Criterion', 'Requirement', 'Measured', 'Result'].map((x) => h('th', { attrs: { scope: 'col' } }, x)))),
             h('tbody', null, ...(b.acceptance.length === 0 ? [h('tr', null, h('td', { attrs: { colspan: 4 } }, 'The spec names no test a lab result can show.'))] : b.acceptance.map((a) =>
-              h('tr', { class: a.verdict === 'fail' ? 'bad' : '' }, h('td', null, a.criterion), h('td', null, a.requirement), h('td', null, Object.entries(a.measured).filter(([, v]) => v !== null).map(([k, v]) => `${k} ${typeof v === 'number' ? (Number.isInteger(v) ? String(v) : fmtNum(v, 1)) : v}`).join(', ')), h('td', null, a.verdict)))))),
+              h('tr', { class: a.verdict === 'fail' ? 'bad' : '', dataset: { criterion: a.criterion } }, h('td', null, fmtAcceptanceCriterion(a.criterion)), h('td', null, a.requirement), h('td', null, acceptanceMeasuredText(a.criterion, a.measured)), h('td', null, fmtAcceptanceVerdict(a.verdict))))))),
           b.labResults.length > 0
             ? h('table', { class: 'cert-table' },
                 h('caption', null, 'Lab results'),
-                h('thead', null, h('tr', null, ...['Test', 'Standard', 'Ref', 'Measured', 'Against prediction'].map((x) => h('th', { attrs: { scope: 'col' } }, x)))),
-                h('tbody', null, ...b.labResults.map((l) => h('tr', null, h('td', null, `${l.kind.toLowerCase().replace('_', ' ')}${l.scale ? ` (${l.scale})` : ''}`), h('td', null, l.testStandard ?? ''), h('td', null, l.externalRef), h('td', null, t(l.measuredAt)),
-                  h('td', null, l.againstPrediction.map((a) => `${a.quantity}: ${a.verdict}`).join('; ') || '—')))))
+                h('thead', null, h('tr', null, ...['Test', 'Result', 'Standard', 'Ref', 'Measured at', 'Against prediction'].map((x) => h('th', { attrs: { scope: 'col' } }, x)))),
+                h('tbody', null, ...b.labResults.map((l) => h('tr', { dataset: { labRef: l.externalRef } }, h('td', null, fmtLabKind(l.kind, l.scale)), h('td', null, labResultText(l.kind, l.scale, l.values)), h('td', null, l.testStandard ?? ''), h('td', null, l.externalRef), h('td', null, l.measuredAt ? t(l.measuredAt) : 'not stated'),
+                  h('td', null, l.againstPrediction.map((a) => fmtAgainstPrediction(a.quantity, a.verdict)).join('; ') || '—')))))
             : h('p', { class: 'muted' }, 'No lab results recorded.'),
           b.prediction
             ? h('div', null,
