@@ -1,0 +1,20 @@
+import { describe, expect, it } from 'vitest';
+import { plainWarning, plainWarnings } from './warnings.js';
+
+describe('plain warnings', () => {
+  it('drops the internal tag and starts with a capital', () => {
+    expect(plainWarning('temperaturesC: Ms from the Andrews formula is outside its fitted range')).toBe('Ms from the Andrews formula is outside its fitted range');
+    expect(plainWarning('advice: no bath temperature between 250 and 400 °C meets every criterion')).toBe('No bath temperature between 250 and 400 °C meets every criterion');
+  });
+
+  it('leaves sentences that merely contain a colon alone', () => {
+    expect(plainWarning('Si + Al below 1.2 wt%: cementite may form')).toBe('Si + Al below 1.2 wt%: cementite may form');
+  });
+
+  it('shows a warning once even when the diagram and the advice both carry it', () => {
+    const diagram = ['advice: no bath temperature meets every criterion', 'temperaturesC: Bs close to Ms'];
+    const advice = ['advice: no bath temperature meets every criterion'];
+    expect(plainWarnings(diagram, advice)).toEqual(['No bath temperature meets every criterion', 'Bs close to Ms']);
+    expect(plainWarnings(null, undefined, [])).toEqual([]);
+  });
+});
