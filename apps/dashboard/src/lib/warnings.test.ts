@@ -18,3 +18,12 @@ describe('plain warnings', () => {
     expect(plainWarnings(null, undefined, [])).toEqual([]);
   });
 });
+
+describe('criterion ids in warnings', () => {
+  it('become their plain names; other words stay', () => {
+    expect(plainWarning('advice: no bath temperature meets every criterion; most often failing: min-bainite, max-fresh-martensite, min-film-to-block'))
+      .toBe('No bath temperature meets every criterion; most often failing: minimum bainite (ausferrite) fraction, maximum fresh martensite, minimum film-to-block ratio');
+    expect(plainWarning('no hold up to 240 min meets min-bainite, hardness at 300 °C')).toBe('No hold up to 240 min meets minimum bainite (ausferrite) fraction, hardness at 300 °C');
+    expect(plainWarning('the min-bainite-like word and pre-min-bainite stay')).toBe('The min-bainite-like word and pre-min-bainite stay');
+  });
+});

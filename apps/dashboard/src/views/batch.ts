@@ -9,7 +9,7 @@ import { batchState, type BatchState } from '../lib/batch-state.js';
 import { toColumns } from '../lib/decimate.js';
 import { findExcursions, type Excursion } from '../lib/excursions.js';
 import { fmtLabKind, labResultText } from '../lib/lab-text.js';
-import { plainWarnings } from '../lib/warnings.js';
+import { plainWarning, plainWarnings } from '../lib/warnings.js';
 import { fmtBand, fmtBatchStatus, fmtC, fmtKg, fmtLimits, fmtMin, fmtMPa, fmtNum, fmtRule, fmtS, fmtSection, fmtVolPct } from '../lib/format.js';
 import { criterionName, type PredictionView } from '../lib/prediction.js';
 import { formatClock, formatDateTime, formatDuration } from '../lib/time.js';
@@ -371,7 +371,7 @@ export const batchView: ViewFactory = (ctx, route) => {
                 v.message ? h('p', { class: 'small' }, v.message) : null,
                 v.drivers.length > 0 ? h('p', { class: 'small muted' }, `Why: ${v.drivers.join('; ')}`) : null)))),
       facts([
-        ['Earliest safe end', s.earliestSafeEndMs !== null ? `${formatClock(s.earliestSafeEndMs, zone)}${s.intoBathMs !== null ? ` (${fmtMin((s.earliestSafeEndMs - s.intoBathMs) / 60_000)} in bath)` : ''}` : `none${p.hold.reason ? `: ${p.hold.reason}` : ''}`],
+        ['Earliest safe end', s.earliestSafeEndMs !== null ? `${formatClock(s.earliestSafeEndMs, zone)}${s.intoBathMs !== null ? ` (${fmtMin((s.earliestSafeEndMs - s.intoBathMs) / 60_000)} in bath)` : ''}` : `none${p.hold.reason ? `. ${plainWarning(p.hold.reason)}` : ''}`],
         ['Set by', p.hold.limiting.length > 0 ? p.hold.limiting.map(criterionName).join(', ') : '—'],
         ['Scheduled end', s.scheduledEndMs !== null ? formatClock(s.scheduledEndMs, zone) : 'not set'],
         ['Bath vs nominal', p.hold.bathOffsetC !== null ? `${p.hold.bathOffsetC >= 0 ? '+' : ''}${fmtNum(p.hold.bathOffsetC, 1)} °C (logged ${fmtC(p.hold.holdBathTempC)}, nominal ${fmtC(p.hold.nominalBathC)})` : '—'],

@@ -3,6 +3,7 @@ import type { ViewFactory } from '../app/view.js';
 import { batchState, windowOf, type BatchState, type Reading } from '../lib/batch-state.js';
 import { fmtBatchStatus, fmtC, fmtLimits, fmtRule, fmtVolPct } from '../lib/format.js';
 import { formatClock, formatDateTime, formatDuration } from '../lib/time.js';
+import { plainWarning } from '../lib/warnings.js';
 import { h, link, replace } from '../ui/dom.js';
 import { bathSafetyNotes, cautionLine, showError } from '../ui/notice.js';
 import { gauge, loading, severityChip, verdictBadge, worstSeverity } from '../ui/widgets.js';
@@ -238,7 +239,7 @@ export const boardView: ViewFactory = (ctx) => {
       h('div', { class: 'hold' },
         h('span', { class: 'label' }, 'Safe end'),
         safe === null
-          ? h('span', { class: s.prediction ? 'warn' : 'muted' }, s.prediction ? `none${s.prediction.hold.reason ? `: ${s.prediction.hold.reason}` : ' given by the prediction'}` : 'no prediction yet')
+          ? h('span', { class: `safe-end ${s.prediction ? 'warn' : 'muted'}` }, s.prediction ? `none${s.prediction.hold.reason ? `. ${plainWarning(s.prediction.hold.reason)}` : ' given by the prediction'}` : 'no prediction yet')
           : h('span', { class: 'safe-end' }, when(safe)),
         safe !== null ? cautionLine('hold') : null,
         s.scheduledTooEarly ? h('strong', { class: 'warn' }, 'Scheduled end is before the safe end!') : null,

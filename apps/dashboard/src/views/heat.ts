@@ -176,7 +176,9 @@ export const heatView: ViewFactory = (ctx, route) => {
     return h('div', { class: 'advice' },
       h('h3', null, `Advised bath window (${Math.round(advice.confidence * 100)} % confidence, spec v${advice.specVersion})`),
       w ? h('p', null, `${fmtC(w.minTempC, 0)} to ${fmtC(w.maxTempC, 0)}, hold at least ${fmtNum(w.minHoldMin, 0)} min${w.maxHoldMin !== null ? ` and at most ${fmtNum(w.maxHoldMin, 0)} min` : ''}${advice.recommended ? `; recommended ${fmtC(advice.recommended.tempC, 0)} for ${fmtNum(advice.recommended.holdMin, 0)} min` : ''}.`)
-        : h('p', { class: 'warn' }, 'No bath temperature meets every criterion with that confidence for this heat and section.'),
+        // The advice's own warning says this with the numbers (shown once below); the plain line only stands in
+        // when there is none.
+        : plainWarnings(diagram?.warnings, advice.warnings).length > 0 ? null : h('p', { class: 'warn' }, 'No bath temperature meets every criterion with that confidence for this heat and section.'),
       h('ul', { class: 'small' }, edge(advice.edges.lower, 'Lower'), edge(advice.edges.upper, 'Upper')),
     );
   }
