@@ -329,6 +329,7 @@ describe('dashboard in Chromium', { timeout: 150_000 }, () => {
       // No window for this heat and section: said once, with the numbers and the criteria in words.
       const said = ((await heat.locator('.heat-grid').textContent()) ?? '').match(/No bath temperature/g) ?? [];
       expect(said).toHaveLength(1);
+      expect(await block.locator('h3').textContent()).toContain(': none for this heat and section');
       expect(levels.bath).toMatchObject({ minTempC: 290, maxTempC: 310, advised: false });
     }
     // Notes and warnings in plain words, each once.

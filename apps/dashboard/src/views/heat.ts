@@ -174,7 +174,7 @@ export const heatView: ViewFactory = (ctx, route) => {
     const w = advice.window;
     const edge = (e: HeatAdvice['edges']['lower'], side: string) => (e ? h('li', null, `${side} edge ${fmtC(e.tempC, 0)}: ${e.messages.join('; ') || e.reasons.join(', ')}`) : null);
     return h('div', { class: 'advice' },
-      h('h3', null, `Advised bath window (${Math.round(advice.confidence * 100)} % confidence, spec v${advice.specVersion})`),
+      h('h3', null, `Advised bath window (${Math.round(advice.confidence * 100)} % confidence, spec v${advice.specVersion})${w ? '' : ': none for this heat and section'}`),
       w ? h('p', null, `${fmtC(w.minTempC, 0)} to ${fmtC(w.maxTempC, 0)}, hold at least ${fmtNum(w.minHoldMin, 0)} min${w.maxHoldMin !== null ? ` and at most ${fmtNum(w.maxHoldMin, 0)} min` : ''}${advice.recommended ? `; recommended ${fmtC(advice.recommended.tempC, 0)} for ${fmtNum(advice.recommended.holdMin, 0)} min` : ''}.`)
         // The advice's own warning says this with the numbers (shown once below); the plain line only stands in
         // when there is none.
