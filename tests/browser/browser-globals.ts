@@ -9,6 +9,8 @@ export interface BrowserElement {
   textContent: string | null;
   dataset: Record<string, string | undefined>;
   disabled: boolean;
+  className: string;
+  style: { width: string };
   width: number;
   height: number;
   getBoundingClientRect(): { left: number; top: number; width: number; height: number };
@@ -21,6 +23,7 @@ export interface BrowserElement {
 export interface BrowserWindow {
   document: {
     querySelector(selector: string): BrowserElement | null;
+    querySelectorAll(selector: string): Iterable<BrowserElement> & ArrayLike<BrowserElement>;
     activeElement: BrowserElement | null;
     documentElement: { scrollWidth: number; clientWidth: number };
   };

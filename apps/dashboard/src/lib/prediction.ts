@@ -252,9 +252,8 @@ export const VERDICT_TEXT: Record<VerdictLevel, string> = {
   nonconforming: 'Nonconforming',
 };
 
-/** Plain names of the criteria ids (libs/contracts PREDICTION_CRITERIA); unknown ids are shown as they are. */
-export function criterionName(id: string): string {
-  const names: Record<string, string> = {
+/** Plain names of the criteria ids (libs/contracts PREDICTION_CRITERIA). */
+export const CRITERION_NAMES: Readonly<Record<string, string>> = {
     'min-bainite': 'Minimum bainite (ausferrite) fraction',
     'complete-transformation': 'Transformation complete before the end of hold',
     'max-fresh-martensite': 'Maximum fresh martensite',
@@ -271,6 +270,9 @@ export function criterionName(id: string): string {
     'adi-stage-i': 'ADI stage I complete',
     'adi-stage-ii': 'ADI stage II not begun',
     'hold-length': 'Scheduled hold long enough',
-  };
-  return names[id] ?? id;
+};
+
+/** The plain name of a criterion id; unknown ids are shown as they are. */
+export function criterionName(id: string): string {
+  return CRITERION_NAMES[id] ?? id;
 }

@@ -31,18 +31,34 @@ export function infoBox(...children: Array<Node | string>): HTMLElement {
 }
 
 /**
- * Caution shown wherever a decision could send parts into service (practice.md §3: nonconforming
- * product must not reach service without the authority and the customer's permission).
+ * Cautions shown wherever a decision could send parts into service (practice.md §3: nonconforming
+ * product must not reach service without the authority and the customer's permission). One wording per
+ * caution: `full` where there is room (the load view), `short` for one line beside a value (the board).
  */
-export function releaseCaution(kind: 'prediction' | 'disposition' | 'hold'): HTMLElement {
-  const text: Record<typeof kind, string> = {
-    prediction:
-      'Predictions are model estimates, not test results. Release to the customer only on the lab results and inspections your control plan requires; an "at risk" or "nonconforming" verdict means hold the load for review.',
-    disposition:
-      '"Use as is", "re-treat" and "concession" can send nonconforming parts into service. Sign only with the authority to do so; automotive customers (IATF 16949 8.7.1.1) must authorise use-as-is and rework in writing first, and a concession needs their permit number. Scrap must be made unusable.',
-    hold: 'The earliest safe end is an estimate at the temperature being logged. If the bath drifts, the time moves; do not pull the load earlier than it, and never rely on it to override the spec\u2019s minimum hold.',
-  };
-  return h('aside', { class: 'caution', attrs: { role: 'note', 'aria-label': 'Caution' } }, h('strong', null, 'Caution. '), text[kind]);
+export const CAUTIONS = {
+  prediction: {
+    full: 'Predictions are model estimates, not test results. Release to the customer only on the lab results and inspections your control plan requires; an "at risk" or "nonconforming" verdict means hold the load for review.',
+    short: 'A model estimate, not a test result.',
+  },
+  disposition: {
+    full: '"Use as is", "re-treat" and "concession" can send nonconforming parts into service. Sign only with the authority to do so; automotive customers (IATF 16949 8.7.1.1) must authorise use-as-is and rework in writing first, and a concession needs their permit number. Scrap must be made unusable.',
+    short: 'Can send nonconforming parts into service.',
+  },
+  hold: {
+    full: 'The earliest safe end is an estimate at the temperature being logged. If the bath drifts, the time moves; do not pull the load earlier than it, and never rely on it to override the spec\u2019s minimum hold.',
+    short: 'An estimate at the logged bath temperature; never pull before the spec\u2019s minimum hold.',
+  },
+} as const satisfies Record<string, { full: string; short: string }>;
+
+export type CautionKind = keyof typeof CAUTIONS;
+
+export function releaseCaution(kind: CautionKind): HTMLElement {
+  return h('aside', { class: 'caution', attrs: { role: 'note', 'aria-label': 'Caution' } }, h('strong', null, 'Caution. '), CAUTIONS[kind].full);
+}
+
+/** The same caution in one line, for a place with room for a few words only. */
+export function cautionLine(kind: CautionKind): HTMLElement {
+  return h('span', { class: 'caution-line', attrs: { role: 'note' } }, '⚠ ', CAUTIONS[kind].short);
 }
 
 /** Safety notes for anyone at the bath (practice.md §2.7); shown on the live board and batch view. */

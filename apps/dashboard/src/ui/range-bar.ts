@@ -13,6 +13,8 @@ export interface RangeBarInput {
   digits?: number;
   spec?: { min?: number | null; max?: number | null } | null;
   band?: { p05: number; p50: number; p95: number } | null;
+  /** A predicted value without a spread (the model gives no p05–p95 for it): drawn as one marker, not a band. */
+  predicted?: number | null;
   measured?: number[];
   /** Where a measurement is summarised (e.g. mean of readings) a marker label. */
   measuredLabel?: string;
@@ -25,6 +27,7 @@ export function rangeBar(input: RangeBarInput): HTMLElement {
     input.spec?.max,
     input.band?.p05,
     input.band?.p95,
+    input.predicted,
     ...(input.measured ?? []),
   ].filter((v): v is number => typeof v === 'number' && Number.isFinite(v));
   if (values.length === 0) return h('div', { class: 'range-row' }, h('span', { class: 'range-label' }, input.label), h('span', { class: 'muted' }, 'nothing to compare'));
@@ -57,7 +60,7 @@ export function rangeBar(input: RangeBarInput): HTMLElement {
       track.append(label);
     }
   }
-  if (input.band) {
+  if (input.band && input.band.p95 - input.band.p05 > 0) {
     const outside = (specMin !== null && input.band.p05 < specMin) || (specMax !== null && input.band.p95 > specMax);
     const band = h('div', { class: `range-band ${outside ? 'outside' : ''}`, attrs: { title: `predicted p05–p95 ${fmtNum(input.band.p05, digits)}–${fmtNum(input.band.p95, digits)} ${input.unit}` } });
     band.style.left = pos(input.band.p05);
@@ -65,6 +68,14 @@ export function rangeBar(input: RangeBarInput): HTMLElement {
     const median = h('div', { class: 'range-median' });
     median.style.left = pos(input.band.p50);
     track.append(band, median);
+  }
+  // A band whose ends meet has no spread to show: the single value is what the model gives.
+  const single = input.predicted ?? (input.band && input.band.p95 - input.band.p05 <= 0 ? input.band.p50 : null);
+  if (single !== null && single !== undefined && Number.isFinite(single)) {
+    const point = h('div', { class: 'range-point', attrs: { title: `predicted ${fmtNum(single, digits)} ${input.unit} (single value, no spread computed)` } },
+      h('span', null, `predicted ${fmtNum(single, digits)}`));
+    point.style.left = pos(single);
+    track.append(point);
   }
   for (const m of input.measured ?? []) {
     const dot = h('div', { class: 'range-measured', attrs: { title: `${input.measuredLabel ?? 'measured'} ${fmtNum(m, digits)} ${input.unit}` } });

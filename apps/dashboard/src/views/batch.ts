@@ -8,6 +8,8 @@ import { COLORS } from '../charts/setup.js';
 import { batchState, type BatchState } from '../lib/batch-state.js';
 import { toColumns } from '../lib/decimate.js';
 import { findExcursions, type Excursion } from '../lib/excursions.js';
+import { fmtLabKind, labResultText } from '../lib/lab-text.js';
+import { plainWarning, plainWarnings } from '../lib/warnings.js';
 import { fmtBand, fmtBatchStatus, fmtC, fmtKg, fmtLimits, fmtMin, fmtMPa, fmtNum, fmtRule, fmtS, fmtSection, fmtVolPct } from '../lib/format.js';
 import { criterionName, type PredictionView } from '../lib/prediction.js';
 import { formatClock, formatDateTime, formatDuration } from '../lib/time.js';
@@ -350,6 +352,7 @@ export const batchView: ViewFactory = (ctx, route) => {
       replace(verdictCard, title, h('p', { class: 'no-prediction' }, verdictBadge(null), ' The model has not computed this load yet, so there is no verdict and no safe end of hold. Judge the load on the process record and the lab.'), releaseCaution('prediction'));
       return;
     }
+    const warnings = plainWarnings(p.warnings);
     replace(
       verdictCard,
       title,
@@ -368,7 +371,7 @@ export const batchView: ViewFactory = (ctx, route) => {
                 v.message ? h('p', { class: 'small' }, v.message) : null,
                 v.drivers.length > 0 ? h('p', { class: 'small muted' }, `Why: ${v.drivers.join('; ')}`) : null)))),
       facts([
-        ['Earliest safe end', s.earliestSafeEndMs !== null ? `${formatClock(s.earliestSafeEndMs, zone)}${s.intoBathMs !== null ? ` (${fmtMin((s.earliestSafeEndMs - s.intoBathMs) / 60_000)} in bath)` : ''}` : `none${p.hold.reason ? `: ${p.hold.reason}` : ''}`],
+        ['Earliest safe end', s.earliestSafeEndMs !== null ? `${formatClock(s.earliestSafeEndMs, zone)}${s.intoBathMs !== null ? ` (${fmtMin((s.earliestSafeEndMs - s.intoBathMs) / 60_000)} in bath)` : ''}` : `none${p.hold.reason ? `. ${plainWarning(p.hold.reason)}` : ''}`],
         ['Set by', p.hold.limiting.length > 0 ? p.hold.limiting.map(criterionName).join(', ') : '—'],
         ['Scheduled end', s.scheduledEndMs !== null ? formatClock(s.scheduledEndMs, zone) : 'not set'],
         ['Bath vs nominal', p.hold.bathOffsetC !== null ? `${p.hold.bathOffsetC >= 0 ? '+' : ''}${fmtNum(p.hold.bathOffsetC, 1)} °C (logged ${fmtC(p.hold.holdBathTempC)}, nominal ${fmtC(p.hold.nominalBathC)})` : '—'],
@@ -376,9 +379,9 @@ export const batchView: ViewFactory = (ctx, route) => {
         ['Ms / Bs', `${fmtC(p.temperaturesC.ms, 0)} / ${fmtC(p.temperaturesC.bs, 0)}`],
       ]),
       s.scheduledTooEarly ? h('p', { class: 'notice error' }, 'The scheduled end of hold is before the earliest safe end: the load would leave the bath before it has transformed enough.') : null,
-      p.warnings.length > 0
-        ? h('details', { class: 'warnings-box' }, h('summary', null, `⚠ ${p.warnings.length} model warning${p.warnings.length === 1 ? '' : 's'} (assumptions and limits of this prediction)`),
-            h('ul', { class: 'warnings' }, ...p.warnings.map((w) => h('li', null, w))))
+      warnings.length > 0
+        ? h('details', { class: 'warnings-box' }, h('summary', null, `⚠ ${warnings.length} model warning${warnings.length === 1 ? '' : 's'} (assumptions and limits of this prediction)`),
+            h('ul', { class: 'warnings' }, ...warnings.map((w) => h('li', null, w))))
         : null,
       releaseCaution('hold'),
       releaseCaution('prediction'),
@@ -437,12 +440,12 @@ export const batchView: ViewFactory = (ctx, route) => {
     if (c.tensile || p?.properties.tensileMPa || tensileLab.length > 0) rows.push(rangeBar({ label: 'Tensile Rm (MPa)', unit: 'MPa', spec: c.tensile ? { min: c.tensile.minTensileMPa ?? null, max: c.tensile.maxTensileMPa ?? null } : null, band: p?.properties.tensileMPa ?? null, measured: tensileLab, measuredLabel: 'lab Rm' }));
     const raPredicted = p && p.final.filmAustenite !== null && p.final.blockyAustenite !== null ? (p.final.filmAustenite + p.final.blockyAustenite) * 100 : null;
     if (raPredicted !== null || raLab.length > 0 || c.maxRetainedAusteniteFraction !== undefined) {
-      rows.push(rangeBar({ label: 'Retained austenite (vol%)', unit: 'vol%', digits: 1, spec: c.maxRetainedAusteniteFraction !== undefined ? { max: c.maxRetainedAusteniteFraction * 100 } : null, band: raPredicted !== null ? { p05: raPredicted, p50: raPredicted, p95: raPredicted } : null, measured: raLab, measuredLabel: 'XRD' }));
+      rows.push(rangeBar({ label: 'Retained austenite (vol%)', unit: 'vol%', digits: 1, spec: c.maxRetainedAusteniteFraction !== undefined ? { max: c.maxRetainedAusteniteFraction * 100 } : null, predicted: raPredicted, measured: raLab, measuredLabel: 'XRD' }));
     }
     replace(
       propsCard,
       title,
-      h('p', { class: 'legend small' }, h('span', { class: 'lg spec' }), 'spec zone ', h('span', { class: 'lg band' }), 'predicted p05–p95 ', h('span', { class: 'lg median' }), 'median ', h('span', { class: 'lg measured' }), 'lab'),
+      h('p', { class: 'legend small' }, h('span', { class: 'lg spec' }), 'spec zone ', h('span', { class: 'lg band' }), 'predicted p05–p95 ', h('span', { class: 'lg median' }), 'median ', h('span', { class: 'lg point' }), 'predicted, single value ', h('span', { class: 'lg measured' }), 'lab'),
       ...rows,
       p ? h('p', { class: 'muted small' }, `Predicted: hardness ${fmtBand(p.properties.hardnessHV, 'HV')}, Rm ${fmtBand(p.properties.tensileMPa, 'MPa')}${p.properties.adiGrade ? `, ADI grade ${p.properties.adiGrade}` : ''}.`) : h('p', { class: 'muted small' }, 'No prediction yet: only the spec and lab values are shown.'),
       c.hardness && c.hardness.scale !== 'HV' ? h('p', { class: 'muted small' }, `The spec states hardness in ${c.hardness.scale}; the model predicts HV. The verdict compares them through a conversion; the bars do not.`) : null,
@@ -462,24 +465,18 @@ export const batchView: ViewFactory = (ctx, route) => {
       h('table', { class: 'compact' },
         h('thead', null, h('tr', null, ...['Test', 'Result', 'Against prediction / spec', 'Standard', 'Ref'].map((x) => h('th', { attrs: { scope: 'col' } }, x)))),
         h('tbody', null, ...lab.map((r) => {
-          let result = '';
+          const result = labResultText(r.kind, r.scale, r.values);
           let against = '';
           if (r.kind === 'HARDNESS') {
             const mean = Number(r.values['mean']);
-            result = `${fmtNum(mean, 0)} ${r.scale ?? ''} mean of ${r.values['n'] ?? '?'} (${fmtNum(Number(r.values['min']), 0)}–${fmtNum(Number(r.values['max']), 0)})`;
             against = r.scale === 'HV' ? inBand(mean, p?.properties.hardnessHV) : '';
             if (c.hardness && c.hardness.scale === r.scale) against += `${against ? '; ' : ''}${mean < c.hardness.min || mean > c.hardness.max ? 'outside' : 'inside'} spec ${c.hardness.min}–${c.hardness.max} ${c.hardness.scale}`;
           } else if (r.kind === 'TENSILE') {
-            const rm = Number(r.values['rmMPa']);
-            result = `Rm ${fmtMPa(rm)}, Rp0.2 ${fmtMPa(Number(r.values['rp02MPa']))}, A ${fmtNum(Number(r.values['elongationPct']), 1)} %`;
-            against = inBand(rm, p?.properties.tensileMPa);
-          } else if (r.kind === 'RETAINED_AUSTENITE') {
-            result = `${fmtNum(Number(r.values['volumePct']), 1)} vol% (XRD)`;
+            against = inBand(Number(r.values['rmMPa']), p?.properties.tensileMPa);
           } else if (r.kind === 'IMPACT') {
-            result = `${fmtNum(Number(r.values['meanJ']), 0)} J mean at ${fmtC(Number(r.values['temperatureC']), 0)} (${String(r.values['notch'] ?? '')})`;
             if (c.minImpactJ !== undefined) against = Number(r.values['meanJ']) >= c.minImpactJ ? `meets ≥ ${c.minImpactJ} J` : `below ${c.minImpactJ} J`;
           }
-          return h('tr', null, h('td', null, r.kind.toLowerCase().replace('_', ' ')), h('td', null, result), h('td', null, against || '—'), h('td', { class: 'ref' }, r.testStandard ?? ''), h('td', { class: 'ref' }, r.externalRef));
+          return h('tr', null, h('td', null, fmtLabKind(r.kind)), h('td', null, result), h('td', null, against || '—'), h('td', { class: 'ref' }, r.testStandard ?? ''), h('td', { class: 'ref' }, r.externalRef));
         })),
       ),
       p ? null : h('p', { class: 'muted small' }, 'No prediction yet, so results are compared with the spec only.'),

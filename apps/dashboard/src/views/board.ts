@@ -3,8 +3,9 @@ import type { ViewFactory } from '../app/view.js';
 import { batchState, windowOf, type BatchState, type Reading } from '../lib/batch-state.js';
 import { fmtBatchStatus, fmtC, fmtLimits, fmtRule, fmtVolPct } from '../lib/format.js';
 import { formatClock, formatDateTime, formatDuration } from '../lib/time.js';
+import { plainWarning } from '../lib/warnings.js';
 import { h, link, replace } from '../ui/dom.js';
-import { bathSafetyNotes, showError } from '../ui/notice.js';
+import { bathSafetyNotes, cautionLine, showError } from '../ui/notice.js';
 import { gauge, loading, severityChip, verdictBadge, worstSeverity } from '../ui/widgets.js';
 
 /**
@@ -227,7 +228,7 @@ export const boardView: ViewFactory = (ctx) => {
 
   function holdLine(s: BatchState, now: number, w: ReturnType<typeof windowOf>): HTMLElement[] {
     const safe = s.earliestSafeEndMs;
-    const when = (ms: number): string => `${formatClock(ms, ctx.plantZone)}${ms <= now ? ' (passed)' : ` (in ${formatDuration(ms - now)})`}`;
+    const when = (ms: number): string => `${formatClock(ms, ctx.plantZone)}${ms <= now ? ' (time reached)' : ` (in ${formatDuration(ms - now)})`}`;
     return [
       h('div', { class: 'hold' },
         h('span', { class: 'label' }, 'Hold'),
@@ -238,8 +239,9 @@ export const boardView: ViewFactory = (ctx) => {
       h('div', { class: 'hold' },
         h('span', { class: 'label' }, 'Safe end'),
         safe === null
-          ? h('span', { class: s.prediction ? 'warn' : 'muted' }, s.prediction ? `none${s.prediction.hold.reason ? `: ${s.prediction.hold.reason}` : ' given by the prediction'}` : 'no prediction yet')
-          : h('span', { class: safe <= now ? 'ok' : '' }, when(safe)),
+          ? h('span', { class: `safe-end ${s.prediction ? 'warn' : 'muted'}` }, s.prediction ? `none${s.prediction.hold.reason ? `. ${plainWarning(s.prediction.hold.reason)}` : ' given by the prediction'}` : 'no prediction yet')
+          : h('span', { class: 'safe-end' }, when(safe)),
+        safe !== null ? cautionLine('hold') : null,
         s.scheduledTooEarly ? h('strong', { class: 'warn' }, 'Scheduled end is before the safe end!') : null,
       ),
     ];

@@ -1,6 +1,7 @@
 import type { ViewFactory } from '../app/view.js';
 import { fmtC, fmtDisposition, fmtKg, fmtLimits, fmtMin, fmtNum, fmtRule, fmtS, fmtSection } from '../lib/format.js';
-import { criterionName } from '../lib/prediction.js';
+import { acceptanceMeasuredText, fmtAcceptanceCriterion, fmtAcceptanceVerdict, fmtAgainstPrediction, fmtLabKind, labResultText } from '../lib/lab-text.js';
+import { criterionName, VERDICT_TEXT } from '../lib/prediction.js';
 import { formatDateTime } from '../lib/time.js';
 import { button, h, link, replace } from '../ui/dom.js';
 import { showError } from '../ui/notice.js';
@@ -58,6 +59,15 @@ const RELEASE_WORD: Record<string, string> = {
   scrap: 'SCRAP',
   'in-process': 'In process (not complete)',
 };
+
+/** 'at-risk' -> 'at risk': the verdict as the other screens say it. */
+const verdictWord = (v: string): string => (VERDICT_TEXT as Record<string, string>)[v]?.toLowerCase() ?? v;
+
+/** A standing reason with the deviation rule ids in it named as the deviation table names them. */
+function inWords(reason: string, rules: string[]): string {
+  return [...new Set(rules)].sort((a, b) => b.length - a.length).reduce((text, rule) => text.split(rule).join(fmtRule(rule)), reason)
+    .replace(/\((MINOR|MAJOR|CRITICAL)\)/g, (_, s: string) => `(${s.toLowerCase()})`);
+}
 
 export const certificateView: ViewFactory = (ctx, route) => {
   const isLot = route.parts[0] === 'lots';
@@ -122,18 +132,18 @@ export const certificateView: ViewFactory = (ctx, route) => {
             h('caption', null, 'Acceptance tests against the spec'),
             h('thead', null, h('tr', null, ...['Criterion', 'Requirement', 'Measured', 'Result'].map((x) => h('th', { attrs: { scope: 'col' } }, x)))),
             h('tbody', null, ...(b.acceptance.length === 0 ? [h('tr', null, h('td', { attrs: { colspan: 4 } }, 'The spec names no test a lab result can show.'))] : b.acceptance.map((a) =>
-              h('tr', { class: a.verdict === 'fail' ? 'bad' : '' }, h('td', null, a.criterion), h('td', null, a.requirement), h('td', null, Object.entries(a.measured).filter(([, v]) => v !== null).map(([k, v]) => `${k} ${typeof v === 'number' ? (Number.isInteger(v) ? String(v) : fmtNum(v, 1)) : v}`).join(', ')), h('td', null, a.verdict)))))),
+              h('tr', { class: a.verdict === 'fail' ? 'bad' : '', dataset: { criterion: a.criterion } }, h('td', null, fmtAcceptanceCriterion(a.criterion)), h('td', null, a.requirement), h('td', null, acceptanceMeasuredText(a.criterion, a.measured)), h('td', null, fmtAcceptanceVerdict(a.verdict))))))),
           b.labResults.length > 0
             ? h('table', { class: 'cert-table' },
                 h('caption', null, 'Lab results'),
-                h('thead', null, h('tr', null, ...['Test', 'Standard', 'Ref', 'Measured', 'Against prediction'].map((x) => h('th', { attrs: { scope: 'col' } }, x)))),
-                h('tbody', null, ...b.labResults.map((l) => h('tr', null, h('td', null, `${l.kind.toLowerCase().replace('_', ' ')}${l.scale ? ` (${l.scale})` : ''}`), h('td', null, l.testStandard ?? ''), h('td', null, l.externalRef), h('td', null, t(l.measuredAt)),
-                  h('td', null, l.againstPrediction.map((a) => `${a.quantity}: ${a.verdict}`).join('; ') || '—')))))
+                h('thead', null, h('tr', null, ...['Test', 'Result', 'Standard', 'Ref', 'Measured at', 'Against prediction'].map((x) => h('th', { attrs: { scope: 'col' } }, x)))),
+                h('tbody', null, ...b.labResults.map((l) => h('tr', { dataset: { labRef: l.externalRef } }, h('td', null, fmtLabKind(l.kind, l.scale)), h('td', null, labResultText(l.kind, l.scale, l.values)), h('td', null, l.testStandard ?? ''), h('td', null, l.externalRef), h('td', null, l.measuredAt ? t(l.measuredAt) : 'not stated'),
+                  h('td', null, l.againstPrediction.map((a) => fmtAgainstPrediction(a.quantity, a.verdict)).join('; ') || '—')))))
             : h('p', { class: 'muted' }, 'No lab results recorded.'),
           b.prediction
             ? h('div', null,
-                h('p', null, `Prediction (model ${b.prediction.modelVersion}): overall ${b.prediction.overall ?? '—'}. Predictions are estimates and are not test results.`),
-                h('ul', { class: 'small' }, ...b.prediction.verdicts.map((v) => h('li', null, `${criterionName(v.criterion)}: ${v.verdict}`))))
+                h('p', null, `Prediction (model ${b.prediction.modelVersion}): overall ${b.prediction.overall ? verdictWord(b.prediction.overall) : '—'}. Predictions are estimates and are not test results.`),
+                h('ul', { class: 'small' }, ...b.prediction.verdicts.map((v) => h('li', null, `${criterionName(v.criterion)}: ${verdictWord(v.verdict)}`))))
             : h('p', { class: 'muted' }, 'No prediction recorded.'),
           h('table', { class: 'cert-table' },
             h('caption', null, 'Deviations and dispositions'),
@@ -142,7 +152,7 @@ export const certificateView: ViewFactory = (ctx, route) => {
               h('tr', null, h('td', null, h('strong', null, fmtRule(d.rule)), h('div', { class: 'small' }, d.message)), h('td', null, d.severity.toLowerCase()), h('td', null, d.status.toLowerCase()),
                 h('td', null, d.disposition ? `${fmtDisposition(d.disposition.disposition)}${d.disposition.permit ? ` (permit ${d.disposition.permit})` : ''}: ${d.disposition.reason ?? ''}` : '—'),
                 h('td', null, d.disposition ? `${d.disposition.signer ?? '—'}, ${t(d.disposition.at)}` : '—')))))),
-          h('p', { class: `release ${['conforming', 'conforming-under-concession', 'accepted-use-as-is'].includes(b.release.status) ? 'ok' : 'bad'}` }, h('strong', null, `Standing: ${RELEASE_WORD[b.release.status] ?? b.release.status}`), b.release.reasons.length > 0 ? ` — ${b.release.reasons.join('; ')}` : ''),
+          h('p', { class: `release ${['conforming', 'conforming-under-concession', 'accepted-use-as-is'].includes(b.release.status) ? 'ok' : 'bad'}` }, h('strong', null, `Standing: ${RELEASE_WORD[b.release.status] ?? b.release.status}`), b.release.reasons.length > 0 ? ` — ${b.release.reasons.map((r) => inWords(r, b.deviations.map((d) => d.rule))).join('; ')}` : ''),
         );
       }),
       h('section', { class: 'cert-section' },

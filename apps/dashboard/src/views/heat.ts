@@ -7,6 +7,7 @@ import { checkChemistry, chemistryConforms, type ElementCheck } from '../lib/che
 import { fmtBatchStatus, fmtC, fmtLimits, fmtNum, fmtWtPct } from '../lib/format.js';
 import { readPrediction } from '../lib/prediction.js';
 import { formatDateTime } from '../lib/time.js';
+import { plainWarnings } from '../lib/warnings.js';
 import { h, link, replace, select } from '../ui/dom.js';
 import { showError } from '../ui/notice.js';
 import { facts, loading } from '../ui/widgets.js';
@@ -173,12 +174,19 @@ export const heatView: ViewFactory = (ctx, route) => {
     const w = advice.window;
     const edge = (e: HeatAdvice['edges']['lower'], side: string) => (e ? h('li', null, `${side} edge ${fmtC(e.tempC, 0)}: ${e.messages.join('; ') || e.reasons.join(', ')}`) : null);
     return h('div', { class: 'advice' },
-      h('h3', null, `Advised bath window (${Math.round(advice.confidence * 100)} % confidence, spec v${advice.specVersion})`),
+      h('h3', null, `Advised bath window (${Math.round(advice.confidence * 100)} % confidence, spec v${advice.specVersion})${w ? '' : ': none for this heat and section'}`),
       w ? h('p', null, `${fmtC(w.minTempC, 0)} to ${fmtC(w.maxTempC, 0)}, hold at least ${fmtNum(w.minHoldMin, 0)} min${w.maxHoldMin !== null ? ` and at most ${fmtNum(w.maxHoldMin, 0)} min` : ''}${advice.recommended ? `; recommended ${fmtC(advice.recommended.tempC, 0)} for ${fmtNum(advice.recommended.holdMin, 0)} min` : ''}.`)
-        : h('p', { class: 'warn' }, 'No bath temperature meets every criterion with that confidence for this heat and section.'),
+        // The advice's own warning says this with the numbers (shown once below); the plain line only stands in
+        // when there is none.
+        : plainWarnings(diagram?.warnings, advice.warnings).length > 0 ? null : h('p', { class: 'warn' }, 'No bath temperature meets every criterion with that confidence for this heat and section.'),
       h('ul', { class: 'small' }, edge(advice.edges.lower, 'Lower'), edge(advice.edges.upper, 'Upper')),
-      advice.warnings.length > 0 ? h('ul', { class: 'warnings' }, ...advice.warnings.map((x) => h('li', null, '⚠ ', x))) : null,
     );
+  }
+
+  /** The diagram's and the advice's warnings, in plain words, each once (the diagram repeats the advice's). */
+  function warningList(): HTMLElement | null {
+    const warnings = plainWarnings(diagram?.warnings, advice?.warnings);
+    return warnings.length > 0 ? h('ul', { class: 'warnings' }, ...warnings.map((x) => h('li', null, '⚠ ', x))) : null;
   }
 
   function chemRow(c: ElementCheck): HTMLElement {
@@ -196,11 +204,13 @@ export const heatView: ViewFactory = (ctx, route) => {
     const carbon = diagram?.meanCarbonWtPct ?? (isIron ? null : (heat!.chemistryWtPct['C'] ?? null));
     const datasets: Array<Record<string, unknown>> = [];
     const annotations: Record<string, AnnotationOptions> = {};
-    const notes: Array<Node | string> = [];
+    const notes: string[] = [];
 
     const bs = diagram?.bsC ?? predictions[0]?.p.temperaturesC.bs ?? null;
     const ms = diagram?.msC ?? predictions[0]?.p.temperaturesC.ms ?? null;
-    const lineData = (pts: Array<{ x: number; y: number }>) => pts.sort((a, b) => a.y - b.y);
+    // Where austenite can take no carbon at all (T0 or T0′ clamped at 0 wt%, high up) there is no line to draw:
+    // those rows would stack into a vertical stroke on the axis.
+    const lineData = (pts: Array<{ x: number; y: number }>) => pts.filter((p) => p.x > 0).sort((a, b) => a.y - b.y);
 
     if (diagram) {
       datasets.push(
@@ -220,7 +230,7 @@ export const heatView: ViewFactory = (ctx, route) => {
       if (t0pPoints.length > 0) datasets.push({ label: 'T0\u2032 at a load\u2019s bath temperature', data: t0pPoints, borderColor: '#0b0f12', borderWidth: 1.5, backgroundColor: COLORS.t0Prime, pointRadius: 8, pointHoverRadius: 10, pointStyle: 'triangle', showLine: false });
       const ae3 = predictions.find((x) => x.p.temperaturesC.ae3 !== null)?.p.temperaturesC.ae3 ?? null;
       if (ae3 !== null && carbon !== null) datasets.push({ label: 'Ae3 at the heat\u2019s carbon', data: [{ x: carbon, y: ae3 }], borderColor: '#0b0f12', borderWidth: 1.5, backgroundColor: COLORS.ae3, pointRadius: 8, pointStyle: 'rectRot', showLine: false });
-      if (predictions.length === 0) notes.push(' No load of this heat has a prediction yet.');
+      if (predictions.length === 0) notes.push('No load of this heat has a prediction yet.');
     }
     const level = (key: string, value: number | null, label: string, color: string) => {
       if (value === null) return;
@@ -231,9 +241,8 @@ export const heatView: ViewFactory = (ctx, route) => {
     if (carbon !== null) {
       annotations['carbon'] = { type: 'line', xMin: carbon, xMax: carbon, borderColor: COLORS.text, borderWidth: 1.5, label: { display: true, content: `${isIron ? 'matrix' : 'heat'} C ${fmtNum(carbon, 2)} wt%`, position: 'start', backgroundColor: 'rgba(16,20,24,0.85)', color: COLORS.text } };
     } else if (isIron) {
-      notes.push(' For ductile iron the heat\u2019s total carbon (graphite included) is not the austenite carbon; the matrix carbon comes with the diagram.');
+      notes.push('For ductile iron the heat\u2019s total carbon (graphite included) is not the austenite carbon; the matrix carbon comes with the diagram.');
     }
-    if (diagram) for (const w of diagram.warnings) notes.push(` ${w}`);
     const advised = advice?.window ?? diagram?.advisedBath ?? null;
     const bath = advised ?? (version ? { minTempC: version.processWindow.bath.minTempC, maxTempC: version.processWindow.bath.maxTempC } : null);
     if (bath) {
@@ -254,8 +263,9 @@ export const heatView: ViewFactory = (ctx, route) => {
       diagramCard,
       h('h2', null, 'Temperature (°C) against carbon (wt%)'),
       chartBox,
-      notes.length > 0 ? h('p', { class: 'muted small chart-note' }, ...notes) : null,
+      notes.length > 0 ? h('ul', { class: 'muted small chart-note' }, ...notes.map((n) => h('li', null, n))) : null,
       adviceBlock(),
+      warningList(),
       h('p', { class: 'muted small' }, 'Bainite stops when the austenite around it reaches the T0′ carbon at the bath temperature: the further T0′ lies right of the heat\u2019s carbon, the more bainite can form. Keep the bath between Ms and Bs with the spec\u2019s margins.'),
     );
     const config = {
@@ -276,6 +286,11 @@ export const heatView: ViewFactory = (ctx, route) => {
     };
     if (chart) chart.destroy();
     chart = new Chart(canvas, config as never);
+    // What the chart drew, for anyone checking it without reading pixels: the legend as chart.js laid it out,
+    // the points of each line, and the levels and window marked.
+    chartBox.dataset['legend'] = (chart.legend?.legendItems ?? []).map((i) => i.text).join(' | ');
+    chartBox.dataset['points'] = JSON.stringify(Object.fromEntries(datasets.map((d) => [String(d['label']), (d['data'] as unknown[]).length])));
+    chartBox.dataset['levels'] = JSON.stringify({ bsC: bs, msC: ms, carbonWtPct: carbon, bath: bath ? { ...bath, advised: advised !== null } : null });
     chartBox.dataset['drawnAt'] = String(Date.now());
     chartBox.dataset['source'] = diagram ? 'api-diagram' : 'predictions';
   }
