@@ -163,7 +163,7 @@ export const heatView: ViewFactory = (ctx, route) => {
     if (advice) {
       const hd = advice.receipt.hardenability;
       const word = { ok: 'enough', 'at-risk': 'at risk', insufficient: 'NOT enough' }[hd.verdict];
-      return h('div', { class: hd.verdict === 'ok' ? '' : 'warn' }, `Hardenability for the section: ${word} (ideal critical diameter ${fmtNum(hd.idealCriticalDiameterMm, 0)} mm against ${fmtNum(hd.sectionEquivalentDiameterMm, 0)} mm equivalent). ${hd.message}`);
+      return h('div', { class: hd.verdict === 'ok' ? '' : 'warn' }, `Hardenability for the section: ${word}. ${hd.message}`);
     }
     const why = adviceProblem === 'loading' ? 'asking the model…' : adviceProblem === 'missing' ? 'the heat advice is not available from the API yet' : adviceProblem ? `the heat advice failed: ${adviceProblem}` : 'choose a spec';
     return h('div', { class: 'muted small' }, `Hardenability against the section: not checked (${why}).`);
