@@ -39,6 +39,11 @@ export interface OutcomeResult {
   driftValuesChanged: boolean;
   comparisons: number;
   changes: DeviationChange[];
+  /**
+   * The product's calibration in force changed (a quantity came into force, or its state moved while in force):
+   * the product's loads still in the bath, whose verdicts and hold advice are live, to be recomputed with it.
+   */
+  recalibratedOpenBatchIds: string[];
 }
 
 interface LoadedPrediction {
@@ -96,7 +101,8 @@ export class OutcomeService {
         const ctx = driftSpecContext(batch.specVersion);
 
         const driftValuesChanged = await this.storeDriftValues(tx, batch, prediction, ctx, now);
-        const { comparisons, changes } = await this.compareLabResults(tx, batch, productSpecId, prediction, now);
+        const { comparisons, changes, recalibrated } = await this.compareLabResults(tx, batch, productSpecId, prediction, now);
+        const recalibratedOpenBatchIds = recalibrated ? await this.openBatches(tx, productSpecId) : [];
 
         const inputs = {
           predictionId: prediction?.id ?? null,
@@ -110,7 +116,7 @@ export class OutcomeService {
           create: { batchId, inputs, evaluatedAt: now },
           update: { inputs, evaluatedAt: now },
         });
-        return { batchId, productSpecId, lineId: batch.lineId, driftValuesChanged, comparisons, changes };
+        return { batchId, productSpecId, lineId: batch.lineId, driftValuesChanged, comparisons, changes, recalibratedOpenBatchIds };
       },
       { timeout: 60_000, maxWait: 10_000 },
     );
@@ -187,7 +193,7 @@ export class OutcomeService {
     productSpecId: string,
     prediction: LoadedPrediction | null,
     now: Date,
-  ): Promise<{ comparisons: number; changes: DeviationChange[] }> {
+  ): Promise<{ comparisons: number; changes: DeviationChange[]; recalibrated: boolean }> {
     const quantities = new Set<CalibratedQuantity>();
     let comparisons = 0;
     for (const lab of batch.labResults) {
@@ -223,20 +229,34 @@ export class OutcomeService {
       }
     }
     const touched = new Set<string>([batch.id]);
+    let recalibrated = false;
     for (const q of CALIBRATED_QUANTITIES) {
       if (!quantities.has(q)) continue;
-      for (const id of await this.rejudge(tx, productSpecId, q)) touched.add(id);
+      const judged = await this.rejudge(tx, productSpecId, q);
+      for (const id of judged.changedBatches) touched.add(id);
+      recalibrated ||= judged.inForceChanged;
     }
     const changes: DeviationChange[] = [];
     for (const id of [...touched].sort()) changes.push(...(await this.syncMismatches(tx, id, productSpecId)));
-    return { comparisons, changes };
+    return { comparisons, changes, recalibrated };
+  }
+
+  /** The product's loads in the bath now (INTO_BATH, no OUT_OF_BATH): their verdicts and hold advice are live. */
+  private async openBatches(tx: Tx, productSpecId: string): Promise<string[]> {
+    const rows = await tx.batch.findMany({
+      where: { specVersion: { specId: productSpecId }, loadEvents: { some: { kind: 'INTO_BATH' }, none: { kind: 'OUT_OF_BATH' } } },
+      select: { id: true },
+      orderBy: { id: 'asc' },
+    });
+    return rows.map((r) => r.id);
   }
 
   /**
    * Re-judges every comparison of one product and quantity in calibration order and stores the running
-   * calibration; returns the batches whose judgement changed.
+   * calibration; returns the batches whose judgement changed, and whether the calibration that corrects bands
+   * (in force) changed: it came into force, left it, or its state moved while in force.
    */
-  private async rejudge(tx: Tx, productSpecId: string, quantity: CalibratedQuantity): Promise<Set<string>> {
+  private async rejudge(tx: Tx, productSpecId: string, quantity: CalibratedQuantity): Promise<{ changedBatches: Set<string>; inForceChanged: boolean }> {
     const rows = await tx.labComparison.findMany({ where: { productSpecId, quantity }, include: { labResult: { select: { measuredAt: true, postedAt: true } } } });
     const timeOf = (r: (typeof rows)[number]) => (r.labResult.measuredAt ?? r.labResult.postedAt).getTime();
     rows.sort((a, b) => a.firstComparedAt.getTime() - b.firstComparedAt.getTime() || timeOf(a) - timeOf(b) || (a.labResultId < b.labResultId ? -1 : a.labResultId > b.labResultId ? 1 : 0));
@@ -280,12 +300,17 @@ export class OutcomeService {
         data: { ...next, calibrationBefore: next.calibrationBefore ?? Prisma.DbNull, calibrationAfter: next.calibrationAfter ?? Prisma.DbNull },
       });
     }
+    let inForceChanged = false;
     if (final) {
       const s = summarizeCalibration(final);
       const data = { method: CALIBRATION_METHOD, n: s.n, bias: s.bias, sd: s.sd, dof: s.dof, kappa: s.kappa, inForce: s.n >= DEFAULT_MIN_RESULTS, state: final as unknown as Prisma.InputJsonValue };
+      const before = await tx.productCalibration.findUnique({ where: { productSpecId_quantity: { productSpecId, quantity } }, select: { inForce: true, state: true } });
+      const inForceBefore = before?.inForce ? canonicalJson(before.state) : null;
+      const inForceAfter = data.inForce ? canonicalJson(final) : null;
+      inForceChanged = inForceBefore !== inForceAfter;
       await tx.productCalibration.upsert({ where: { productSpecId_quantity: { productSpecId, quantity } }, create: { productSpecId, quantity, ...data }, update: data });
     }
-    return changedBatches;
+    return { changedBatches, inForceChanged };
   }
 
   /** The mismatch deviations of one batch, from its comparisons (opened, refreshed, cleared by the repository). */
