@@ -109,6 +109,8 @@ export const LabCalibrationBasis = z
     method: z.string(),
     minResults: z.number(),
     quantities: z.partialRecord(z.enum(['hardnessHV', 'tensileMPa', 'retainedAusteniteFraction']), z.object({ n: z.number(), bias: z.number(), sd: z.number(), kappa: z.number(), dof: z.number(), predictiveScale: z.number() })),
+    /** The engine hook applied to the stored bands (bias added to every member, extra normal spread). */
+    applied: z.partialRecord(z.enum(['hardnessHV', 'tensileMPa', 'retainedAusteniteFraction']), z.object({ bias: z.number(), sd: z.number() })).optional(),
   })
   .nullable();
 export type LabCalibrationBasis = z.infer<typeof LabCalibrationBasis>;

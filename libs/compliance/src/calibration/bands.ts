@@ -200,9 +200,14 @@ export interface LabCalibrationBasis {
   method: string;
   minResults: number;
   quantities: Partial<Record<CalibratedQuantity, CalibrationSummary>>;
+  /** The engine hook applied to the bands this record stores (bias, extra spread), when it says so. */
+  applied?: Partial<Record<CalibratedQuantity, { bias: number; sd: number }>>;
 }
 
-export function labCalibrationBasis(calibrations: ProductCalibrations | null | undefined, options: { minResults?: number } = {}): LabCalibrationBasis | null {
+export function labCalibrationBasis(
+  calibrations: ProductCalibrations | null | undefined,
+  options: { minResults?: number; applied?: Partial<Record<CalibratedQuantity, { bias: number; sd: number }>> | null } = {},
+): LabCalibrationBasis | null {
   const inForce = calibrationsInForce(calibrations, options);
   const quantities: LabCalibrationBasis['quantities'] = {};
   for (const q of CALIBRATED_QUANTITIES) {
@@ -210,5 +215,5 @@ export function labCalibrationBasis(calibrations: ProductCalibrations | null | u
     if (s) quantities[q] = summarizeCalibration(s);
   }
   if (!Object.keys(quantities).length) return null;
-  return { method: CALIBRATION_METHOD, minResults: options.minResults ?? DEFAULT_MIN_RESULTS, quantities };
+  return { method: CALIBRATION_METHOD, minResults: options.minResults ?? DEFAULT_MIN_RESULTS, quantities, ...(options.applied ? { applied: options.applied } : {}) };
 }

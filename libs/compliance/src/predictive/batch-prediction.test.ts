@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest';
 import { predict } from '@ausline/metallurgy';
-import { rawPredictedBand } from '../calibration/bands.js';
+import { engineBandCalibration, rawPredictedBand } from '../calibration/bands.js';
 import { DEFAULT_MIN_RESULTS, startCalibration, summarizeCalibration, updateCalibration } from '../calibration/running.js';
 import type { TemperatureChannelSeries } from '../process-window/types.js';
 import { mergeBathChannels } from './bath-series.js';
@@ -202,6 +202,7 @@ describe('lab calibration of the live prediction', () => {
     expect(out.result.properties.hardnessHV).toEqual(out.result.bands.hardnessHV);
     expect(out.result.basis.labCalibration!.quantities.hardnessHV!.n).toBe(DEFAULT_MIN_RESULTS);
     expect(out.result.basis.labCalibration!.quantities.hardnessHV!.bias).toBeCloseTo(bias, 12);
+    expect(out.result.basis.labCalibration!.applied!.hardnessHV).toEqual(engineBandCalibration(rawHv, cal.hardnessHV));
     const verdict = out.result.verdicts.find((v) => v.criterion === 'hardness')!;
     expect(verdict.p50).toBe(hv.p50);
     expect(out.inputDigest).not.toBe(raw.inputDigest);

@@ -297,7 +297,7 @@ export function* predictBatchSteps(input: BatchPredictionInput, previous: Predic
       ...(setup.calibration ? { calibration: setup.calibration } : {}),
     },
     // Which lab calibration corrected the bands (null: none in force; bands = rawBands).
-    labCalibration: labCalibrationBasis(labCalibration),
+    labCalibration: labCalibrationBasis(labCalibration, { applied: evaluation.labHooks }),
   };
   const result: PredictionResult = {
     ...(out as PredictOutput & Record<string, unknown>),
