@@ -21,6 +21,7 @@ import {
   waitForPrediction,
   type Plant,
 } from './predictions-support.js';
+import { until } from './support/until.js';
 
 const w = await startPredictionWorld('predictions-calibration');
 // The maximum hardness is what the correction moves across: raw, the 8 mm bar stays under 745 HV (p95) over the
@@ -61,16 +62,6 @@ async function advise(): Promise<HeatAdvice> {
 
 async function latest(batchId: string): Promise<PredictionRow> {
   return expectStatus(await w.http.get(`/v1/batches/${batchId}/predictions`, w.metallurgist.headers), 200).body.items[0] as PredictionRow;
-}
-
-async function until<T>(what: string, probe: () => Promise<T | null | undefined | false>, timeoutMs = 120_000): Promise<T> {
-  const deadline = Date.now() + timeoutMs;
-  for (;;) {
-    const value = await probe();
-    if (value) return value;
-    if (Date.now() > deadline) throw new Error(`timed out waiting for ${what}`);
-    await new Promise((r) => setTimeout(r, 150));
-  }
 }
 
 const calibrationRow = () => w.prisma.productCalibration.findUnique({ where: { productSpecId_quantity: { productSpecId: spec.id, quantity: 'hardnessHV' } } });
