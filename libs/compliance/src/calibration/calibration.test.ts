@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest';
 import { createSeededRandom } from '../drift/random.js';
-import { bandSd, calibrateBand, calibratedPredictionBands, engineBandCalibration, rawPredictedBand, Z95 } from './bands.js';
+import { bandSd, calibrateBand, calibratedPredictionBands, calibrationsInForce, engineBandCalibration, labBandHooks, labCalibrationBasis, rawPredictedBand, Z95 } from './bands.js';
 import { lnGamma, normalQuantile, regularizedIncompleteBeta, studentTCdf, studentTQuantile } from './distributions.js';
 import { convertHardness, labObservations, meanHardnessIn } from './lab.js';
 import { startCalibration, summarizeCalibration, updateCalibration } from './running.js';
@@ -171,5 +171,28 @@ describe('calibratedPredictionBands', () => {
     expect(out.hardnessHV!.calibrated.p50).toBeCloseTo(400 + summarizeCalibration(s).bias, 9);
     expect(out.hardnessHV!.engine!.bias).toBeCloseTo(summarizeCalibration(s).bias, 9);
     expect(calibratedPredictionBands(result, {}).hardnessHV!.applied).toBe(false);
+  });
+});
+
+describe('labBandHooks: the calibrations in force in the engine-hook form, per evaluation', () => {
+  const raw = { p05: 360, p50: 400, p95: 440 };
+  const learned = (residuals: number[]) => residuals.reduce((s, r) => updateCalibration(s, r), startCalibration(bandSd(raw)));
+
+  it('gives nothing below the minimum number of results, nor for a band the engine could not compute', () => {
+    expect(labBandHooks({ hardnessHV: raw }, { hardnessHV: learned([-20, -22]) })).toBeNull();
+    expect(calibrationsInForce({ hardnessHV: learned([-20, -22]), tensileMPa: learned([5, 6, 7]) })).toEqual({ tensileMPa: learned([5, 6, 7]) });
+    expect(labBandHooks({ hardnessHV: { p05: null, p50: 400, p95: 440 } }, { hardnessHV: learned([-20, -22, -21]) })).toBeNull();
+  });
+
+  it('in force: the hook each quantity gets is engineBandCalibration of that evaluation\'s own raw band', () => {
+    const states = { hardnessHV: learned([-20, -22, -21]), retainedAusteniteFraction: learned([0.01, 0.02, 0.015]) };
+    const hooks = labBandHooks({ hardnessHV: raw, tensileMPa: { p05: 1200, p50: 1300, p95: 1400 } }, states)!;
+    expect(Object.keys(hooks)).toEqual(['hardnessHV']); // no tensile calibration; no retained-austenite band given
+    expect(hooks.hardnessHV).toEqual(engineBandCalibration(raw, states.hardnessHV));
+    const basis = labCalibrationBasis(states, { applied: hooks })!;
+    expect(basis.minResults).toBe(3);
+    expect(basis.quantities.hardnessHV!.n).toBe(3);
+    expect(basis.applied).toEqual(hooks);
+    expect(labCalibrationBasis({})).toBeNull();
   });
 });
