@@ -4,7 +4,10 @@ import {
   CALIBRATED_QUANTITIES,
   CALIBRATION_METHOD,
   DEFAULT_MIN_RESULTS,
+  ASSIGNABLE_CAUSE_SEVERITIES,
   MISMATCH_RULE,
+  PROCESS_WINDOW_RULES,
+  calibrationExclusion,
   driftMetricUnit,
   driftSpecContext,
   judgeSequence,
@@ -15,7 +18,9 @@ import {
   processRecord,
   rawPredictedBand,
   summarizeCalibration,
+  summarizeExclusions,
   type CalibratedQuantity,
+  type CalibrationExclusion,
   type DriftMetric,
   type DriftSpecContext,
   type LabResultLike,
@@ -65,7 +70,9 @@ const EVENT_FIELD = { CHARGED: 'chargedMs', OUT_OF_FURNACE: 'outOfFurnaceMs', IN
  *  - each lab result against the predicted band of its latest prediction, corrected by the product's running
  *    calibration of the results compared before it; outside the band → 'model-process-mismatch' deviation.
  *    Every comparison of the product (per quantity) is re-judged in order, so a changed prediction of an older
- *    batch moves the calibration of everything after it consistently; only what changed is written.
+ *    batch moves the calibration of everything after it consistently; only what changed is written. A result
+ *    of a load with an assignable cause (a MAJOR/CRITICAL process-window deviation) is judged but left out of
+ *    the calibration (libs/compliance calibrationExclusion).
  * One transaction, serialized per product spec (advisory lock): the calibration is a fold over the
  * product's comparisons and two batches of one product must not fold at once.
  */
@@ -260,11 +267,13 @@ export class OutcomeService {
     const rows = await tx.labComparison.findMany({ where: { productSpecId, quantity }, include: { labResult: { select: { measuredAt: true, postedAt: true } } } });
     const timeOf = (r: (typeof rows)[number]) => (r.labResult.measuredAt ?? r.labResult.postedAt).getTime();
     rows.sort((a, b) => a.firstComparedAt.getTime() - b.firstComparedAt.getTime() || timeOf(a) - timeOf(b) || (a.labResultId < b.labResultId ? -1 : a.labResultId > b.labResultId ? 1 : 0));
+    const exclusions = await this.exclusionsOf(tx, [...new Set(rows.map((r) => r.batchId))]);
     const { judgements, final } = judgeSequence(
       rows.map((r) => ({
         key: r.id,
         measured: r.measured ?? Number.NaN,
         raw: r.measured !== null && r.rawP05 !== null && r.rawP50 !== null && r.rawP95 !== null ? { p05: r.rawP05, p50: r.rawP50, p95: r.rawP95 } : null,
+        excludedBy: exclusions.get(r.batchId) ?? null,
       })),
       { quantity },
     );
@@ -283,6 +292,7 @@ export class OutcomeService {
         calibrationAfter: (j.comparison ? j.after : null) as Prisma.InputJsonValue | null,
         residual: j.residual,
         verdict,
+        excludedBy: j.excludedBy as Prisma.InputJsonValue | null,
       };
       const same =
         row.bandP05 === next.bandP05 &&
@@ -292,18 +302,31 @@ export class OutcomeService {
         canonicalJson(row.calibrationBefore) === canonicalJson(next.calibrationBefore) &&
         canonicalJson(row.calibrationAfter) === canonicalJson(next.calibrationAfter) &&
         row.residual === next.residual &&
-        row.verdict === next.verdict;
+        row.verdict === next.verdict &&
+        canonicalJson(row.excludedBy) === canonicalJson(next.excludedBy);
       if (same) continue;
       changedBatches.add(row.batchId);
       await tx.labComparison.update({
         where: { id: row.id },
-        data: { ...next, calibrationBefore: next.calibrationBefore ?? Prisma.DbNull, calibrationAfter: next.calibrationAfter ?? Prisma.DbNull },
+        data: { ...next, calibrationBefore: next.calibrationBefore ?? Prisma.DbNull, calibrationAfter: next.calibrationAfter ?? Prisma.DbNull, excludedBy: next.excludedBy ?? Prisma.DbNull },
       });
     }
     let inForceChanged = false;
     if (final) {
       const s = summarizeCalibration(final);
-      const data = { method: CALIBRATION_METHOD, n: s.n, bias: s.bias, sd: s.sd, dof: s.dof, kappa: s.kappa, inForce: s.n >= DEFAULT_MIN_RESULTS, state: final as unknown as Prisma.InputJsonValue };
+      const excluded = summarizeExclusions(judgements.map((j) => j.excludedBy));
+      const data = {
+        method: CALIBRATION_METHOD,
+        n: s.n,
+        bias: s.bias,
+        sd: s.sd,
+        dof: s.dof,
+        kappa: s.kappa,
+        inForce: s.n >= DEFAULT_MIN_RESULTS,
+        state: final as unknown as Prisma.InputJsonValue,
+        excludedResults: excluded.results,
+        exclusions: excluded as unknown as Prisma.InputJsonValue,
+      };
       const before = await tx.productCalibration.findUnique({ where: { productSpecId_quantity: { productSpecId, quantity } }, select: { inForce: true, state: true } });
       const inForceBefore = before?.inForce ? canonicalJson(before.state) : null;
       const inForceAfter = data.inForce ? canonicalJson(final) : null;
@@ -311,6 +334,22 @@ export class OutcomeService {
       await tx.productCalibration.upsert({ where: { productSpecId_quantity: { productSpecId, quantity } }, create: { productSpecId, quantity, ...data }, update: data });
     }
     return { changedBatches, inForceChanged };
+  }
+
+  /** Per batch, why its lab results are left out of the calibration (only batches with an assignable cause). */
+  private async exclusionsOf(tx: Tx, batchIds: string[]): Promise<Map<string, CalibrationExclusion>> {
+    const deviations = await tx.deviation.findMany({
+      where: { batchId: { in: batchIds }, rule: { in: [...PROCESS_WINDOW_RULES] }, severity: { in: [...ASSIGNABLE_CAUSE_SEVERITIES] }, conditionPresent: true },
+      select: { id: true, batchId: true, rule: true, severity: true, conditionPresent: true },
+    });
+    const byBatch = new Map<string, typeof deviations>();
+    for (const d of deviations) byBatch.set(d.batchId!, [...(byBatch.get(d.batchId!) ?? []), d]);
+    const out = new Map<string, CalibrationExclusion>();
+    for (const [batchId, ds] of byBatch) {
+      const exclusion = calibrationExclusion(ds);
+      if (exclusion) out.set(batchId, exclusion);
+    }
+    return out;
   }
 
   /** The mismatch deviations of one batch, from its comparisons (opened, refreshed, cleared by the repository). */
