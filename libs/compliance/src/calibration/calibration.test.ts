@@ -5,6 +5,7 @@ import { lnGamma, normalQuantile, regularizedIncompleteBeta, studentTCdf, studen
 import { convertHardness, labObservations, meanHardnessIn } from './lab.js';
 import { startCalibration, summarizeCalibration, updateCalibration } from './running.js';
 import { judgeSequence } from './sequence.js';
+import { calibrationExclusion, isAssignableCause, summarizeExclusions, type BatchDeviationLike } from './assignable-cause.js';
 
 describe('distributions', () => {
   it('ln Γ matches exact values', () => {
@@ -157,6 +158,63 @@ describe('judgeSequence: prequential judging', () => {
     const skip = judgeSequence([{ key: 'x', measured: 1, raw: null }], { quantity: 'hardnessHV' });
     expect(skip.judgements[0]!.comparison).toBeNull();
     expect(skip.final).toBeNull();
+  });
+});
+
+describe('assignable causes: results of a load whose process broke its window are judged but do not calibrate', () => {
+  // Leaving points with an assignable cause out of the reference is the SPC practice when limits are revised
+  // (Montgomery, Introduction to Statistical Quality Control, on revising control limits; common practice).
+  const raw = { p05: 360, p50: 400, p95: 440 };
+  const clean = [-20, -22, -19, -21].map((r, i) => ({ key: `c${i}`, measured: 400 + r, raw }));
+  const dev = (over: Partial<BatchDeviationLike>): BatchDeviationLike => ({ id: 'd1', rule: 'hold-min', severity: 'CRITICAL', conditionPresent: true, ...over });
+  const shortHold = { key: 'short', measured: 400 + 70, raw, excludedBy: calibrationExclusion([dev({})]) };
+
+  it('a MAJOR/CRITICAL process-window deviation still present is a cause, whatever its status; predicted verdicts, mismatches, MINOR and cleared ones are not', () => {
+    expect(isAssignableCause(dev({}))).toBe(true);
+    expect(isAssignableCause(dev({ rule: 'bath-band-excursion', severity: 'MAJOR' }))).toBe(true);
+    expect(isAssignableCause(dev({ rule: 'thermocouple-disagreement', severity: 'MINOR' }))).toBe(false);
+    expect(isAssignableCause(dev({ rule: 'predicted-hardness', severity: 'MAJOR' }))).toBe(false);
+    expect(isAssignableCause(dev({ rule: 'model-process-mismatch', severity: 'MAJOR' }))).toBe(false);
+    expect(isAssignableCause(dev({ conditionPresent: false }))).toBe(false);
+    expect(calibrationExclusion([dev({ rule: 'predicted-hardness', severity: 'MAJOR' })])).toBeNull();
+    expect(calibrationExclusion([dev({ id: 'b', rule: 'transfer-time' }), dev({ id: 'a' }), dev({ id: 'c', rule: 'channel-gap', severity: 'MINOR' })])).toEqual({
+      reason: 'assignable-cause',
+      causes: [
+        { deviationId: 'a', rule: 'hold-min', severity: 'CRITICAL' },
+        { deviationId: 'b', rule: 'transfer-time', severity: 'CRITICAL' },
+      ],
+    });
+  });
+
+  it('an excluded result leaves the calibration as it was; the same result from a clean load moves it', () => {
+    const without = judgeSequence(clean, { quantity: 'hardnessHV' });
+    const withExcluded = judgeSequence([...clean.slice(0, 2), shortHold, ...clean.slice(2)], { quantity: 'hardnessHV' });
+    const withClean = judgeSequence([...clean.slice(0, 2), { ...shortHold, excludedBy: null }, ...clean.slice(2)], { quantity: 'hardnessHV' });
+    // Excluded: the final state is exactly the one without it, and its own judgement leaves the state untouched.
+    expect(withExcluded.final).toEqual(without.final);
+    expect(withExcluded.judgements[2]!.stateAfter).toEqual(withExcluded.judgements[1]!.stateAfter);
+    expect(withExcluded.judgements[2]!.excludedBy!.causes[0]!.rule).toBe('hold-min');
+    // Clean: the same +70 HV is folded in (n + 1) and pulls the bias up and widens the spread.
+    expect(withClean.final!.n).toBe(without.final!.n + 1);
+    expect(summarizeCalibration(withClean.final!).bias).toBeGreaterThan(summarizeCalibration(without.final!).bias + 5);
+    expect(summarizeCalibration(withClean.final!).sd).toBeGreaterThan(2 * summarizeCalibration(without.final!).sd);
+    expect(withClean.judgements[2]!.excludedBy).toBeNull();
+  });
+
+  it('an excluded result is still judged against its own band (here the raw one: above it, a mismatch to raise)', () => {
+    const { judgements } = judgeSequence([shortHold, ...clean], { quantity: 'hardnessHV' });
+    expect(judgements[0]!.comparison!.verdict).toBe('above');
+    expect(judgements[0]!.residual).toBe(70);
+    expect(judgements[0]!.after).toBeNull(); // nothing learned yet
+    // The prior spread comes from the first folded-in prediction; the calibration counts the clean four only.
+    expect(judgements.at(-1)!.stateAfter!.n).toBe(4);
+  });
+
+  it('summarizeExclusions counts results once in all and once per rule', () => {
+    const two = calibrationExclusion([dev({ id: 'a' }), dev({ id: 'b', rule: 'bath-band-excursion', severity: 'MAJOR' })]);
+    const one = calibrationExclusion([dev({ id: 'c' })]);
+    expect(summarizeExclusions([null, two, undefined, one])).toEqual({ results: 2, byRule: { 'bath-band-excursion': 1, 'hold-min': 2 } });
+    expect(summarizeExclusions([])).toEqual({ results: 0, byRule: {} });
   });
 });
 
