@@ -14,6 +14,7 @@ import { afterAll, beforeAll, describe, expect, it, vi } from 'vitest';
 vi.setConfig({ testTimeout: 180_000, hookTimeout: 180_000 });
 import { Queue } from 'bullmq';
 import { DRIFT_QUEUE, OUTCOME_QUEUE, RECOMPUTE_QUEUE, type RecomputeJob } from '@ausline/contracts';
+import { MODEL_VERSION } from '@ausline/metallurgy';
 import { startTestApi } from '../apps/api/test/support/test-api.js';
 import { createApiKeyFor, createUserWithSession } from '../apps/api/test/support/principals.js';
 import { startWorker, type RunningWorker } from '../apps/worker/src/start-worker.js';
@@ -178,6 +179,36 @@ describe('certificate data per batch and per lot', () => {
     expect(batch.release.status).not.toBe('pending-disposition');
     expect(batch.release.concessions).toEqual(['CP-2025-0311']);
     expect(cert.recordDigest).toMatch(/^[0-9a-f]{64}$/);
+    // The prediction block is the batch's latest stored prediction: its identity, model version, verdicts and bands.
+    const stored = await prisma.prediction.findFirstOrThrow({ where: { batchId: b.id }, orderBy: { version: 'desc' } });
+    const storedResult = stored.result as { bands: Record<string, unknown>; properties: Record<string, unknown>; verdicts: { criterion: string; verdict: string; p05: number; p50: number; p95: number }[]; overall: string; hold: unknown };
+    expect(stored.phase).toBe('DONE');
+    expect(batch.prediction).toMatchObject({
+      id: stored.id,
+      version: stored.version,
+      modelVersion: MODEL_VERSION,
+      phase: 'DONE',
+      inputDigest: stored.inputDigest,
+      watermark: stored.watermark!.toISOString(),
+      overall: storedResult.overall,
+      verdicts: storedResult.verdicts,
+      hold: storedResult.hold,
+      adiGrade: storedResult.properties.adiGrade ?? null,
+      labCalibration: null, // two hardness results of this product so far: below the minimum of 3, no calibration in force
+    });
+    expect(stored.modelVersion).toBe(MODEL_VERSION);
+    for (const q of ['hardnessHV', 'hardnessHBW', 'hardnessHRC', 'tensileMPa', 'fractionAtEnd', 'bainiticFerrite', 'blockyAustenite', 'filmAustenite', 'retainedAusteniteFraction', 'freshMartensite', 'upperProductsFraction']) {
+      expect(batch.prediction.bands[q]).toEqual(storedResult.bands[q]);
+    }
+    const hv = batch.prediction.bands.hardnessHV as { p05: number; p50: number; p95: number };
+    expect(hv.p05).toBeLessThanOrEqual(hv.p50);
+    expect(hv.p50).toBeLessThanOrEqual(hv.p95);
+    // The spec's HBW criterion was judged on that very band: its HBW band is the certificate's (both the ASTM E140
+    // conversion of the HV percentiles; null where a percentile lies off the table) and its message quotes the HV band.
+    const hardnessVerdict = batch.prediction.verdicts.find((v: { criterion: string }) => v.criterion === 'hardness');
+    const hbw = batch.prediction.bands.hardnessHBW as { p05: number | null; p50: number | null; p95: number | null };
+    expect(hardnessVerdict).toMatchObject({ p05: hbw.p05, p50: hbw.p50, p95: hbw.p95, unit: 'HBW' });
+    expect(hardnessVerdict.message).toContain(`(${hv.p05}–${hv.p95} HV, ASTM E140)`);
     console.log(
       `certificate of CERT-B: bath ${batch.process.bath.tempC.minC}–${batch.process.bath.tempC.maxC} °C (mean ${batch.process.bath.tempC.meanC}), hold ${batch.process.bath.holdMin} min, ` +
         `austenitize ${batch.process.austenitize.tempC.meanC} °C for ${batch.process.austenitize.soakMin} min, transfer ${batch.process.transfer.seconds} s; ` +

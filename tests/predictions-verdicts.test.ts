@@ -52,7 +52,22 @@ const SPEC_A: AcceptanceCriteria = {
 const SPEC_B: AcceptanceCriteria = { maxBlockyAusteniteFraction: 0.08, maxRetainedAusteniteFraction: 0.12, tensile: { minTensileMPa: 2400 }, requireStableRetainedAustenite: true };
 /** Spec C: stable retained austenite for a product whose T0′ was calibrated +1.0 wt% C against XRD (invented calibration). */
 const SPEC_C: AcceptanceCriteria = { requireStableRetainedAustenite: true, prediction: { calibration: { t0PrimeBiasWtPct: 1.0 } } };
-/** ADI calibration of an invented product (T0′ to XRD, kinetics and quench to trial castings). */
+/**
+ * ADI calibration of an invented product (T0′ to XRD, kinetics and quench to trial castings).
+ *
+ * Why the ADI specs D and E judge Stage I at 20 % and with a calibration, not at the documented default of 3 %
+ * (metallurgy.md §4.2: Stage I is over when the austenite left unreacted, which turns to martensite on cooling, is
+ * below ≈ 3 %): with this model no quiet case at the default exists, however long the hold. Tried on this iron
+ * (10 mm plate, moderate agitation, 200 members, seed 1, no calibration; libs/compliance predictBatch, 2 Dec 2026):
+ * the fresh-martensite band's p50 is 0.6–0.7 % but its p95 levels off at 6.9–9.5 % – at 320, 340, 355, 370, 385 and
+ * 400 °C, after 120 and after 240 min (the iron window's longest hold), e.g. 370 °C: 7.64 % at 120, 180 and 240 min.
+ * The band stops moving because the transformation in the upper 5 % of the members is over, leaving austenite whose
+ * Ms lies above ambient (residual-austenite Ms band about 120–215 °C at 370 °C, 180 min), part of which turns to
+ * martensite on cooling; a longer hold cannot change that, so Stage I stays "at risk" against 3 %. It is not the T0′
+ * scatter alone: with a product T0′ spread of 0.02 wt% (calibration t0PrimeSdWtPct) the p95 is still 6.4 %. With the
+ * calibration below it is wider still (p95 16 % at 240 min). A quiet case at 3 % would need an invented calibration
+ * that hides this, which is what this note replaces.
+ */
 const ADI_CALIBRATION = { t0PrimeBiasWtPct: 0.6, ferritePearliteTimeFactor: 30, bainiteTimeFactor: 0.25 };
 const SPEC_D: AcceptanceCriteria = { adiProcessWindow: { stageIMaxMartensiteFraction: 0.2 }, prediction: { calibration: ADI_CALIBRATION } };
 const SPEC_E: AcceptanceCriteria = { adiProcessWindow: { stageIMaxMartensiteFraction: 0.2, stageIIOnsetMin: 60, stageIIOnsetRefTempC: 370 }, prediction: { calibration: ADI_CALIBRATION } };

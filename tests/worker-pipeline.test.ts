@@ -17,7 +17,7 @@ import { RecomputeService } from '../apps/worker/src/recompute/recompute.service
 import { createTestDatabase } from './support/database.js';
 import { TEST_REDIS_URL, deleteRedisKeys, testQueuePrefix } from './support/redis.js';
 import { testAppEnv } from './support/env.js';
-import { createBatch, createUser, seedPlant } from './fixtures/austempering-plant.js';
+import { createBatch, createUser, furnaceZoneSamples, seedPlant, wiggle, writeLoadEvents } from './fixtures/austempering-plant.js';
 
 const db = await createTestDatabase();
 const prisma = db.prisma;
@@ -73,7 +73,6 @@ const MIN = 60_000;
 // The predicted verdicts (issue 4) of the fixture load have their own tests (tests/predictions*.test.ts): these
 // assertions are about the process-window rules.
 const processWindowOnly = { rule: { in: [...PROCESS_WINDOW_RULES] } };
-const wiggle = (i: number, phase: number) => 0.3 * Math.sin(i * 0.7 + phase);
 
 /**
  * A finished ADI load, ending 20 minutes ago: furnace zones hold 900 °C (window 890–910 °C), 12 s
@@ -87,22 +86,8 @@ async function seedLoad() {
   const intoBath = outOfBath - 90 * MIN;
   const outOfFurnace = intoBath - 12_000;
   const charged = outOfFurnace - 90 * MIN;
-  await prisma.loadEvent.createMany({
-    data: [
-      { batchId: batch.id, kind: 'CHARGED', at: new Date(charged), equipmentId: plant.furnaceId },
-      { batchId: batch.id, kind: 'OUT_OF_FURNACE', at: new Date(outOfFurnace), equipmentId: plant.furnaceId },
-      { batchId: batch.id, kind: 'INTO_BATH', at: new Date(intoBath), equipmentId: plant.bathId },
-      { batchId: batch.id, kind: 'OUT_OF_BATH', at: new Date(outOfBath), equipmentId: plant.bathId },
-    ],
-  });
-  const samples: { channelId: string; t: Date; value: number }[] = [];
-  plant.zoneIds.forEach((channelId, z) => {
-    for (let t = charged - 2 * MIN, i = 0; t <= outOfFurnace + MIN; t += 10_000, i++) {
-      const since = t - charged;
-      const base = since < 0 ? 900 : since < 20 * MIN ? 700 + (200 * since) / (20 * MIN) : 900;
-      samples.push({ channelId, t: new Date(t), value: base + wiggle(i, z) });
-    }
-  });
+  await writeLoadEvents(prisma, plant, batch.id, { charged, outOfFurnace, intoBath, outOfBath });
+  const samples = furnaceZoneSamples(plant, charged, outOfFurnace);
   const excursion = { from: intoBath + 30 * MIN, to: intoBath + 34 * MIN };
   const hole = { from: intoBath + 50 * MIN, to: intoBath + 51.5 * MIN };
   const late: typeof samples = [];

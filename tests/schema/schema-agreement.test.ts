@@ -493,6 +493,7 @@ describe('every model round-trips through the generated client', () => {
         calibrationAfter: { n: 6, bias: 5, sd: 9.5 },
         residual: 22,
         verdict: 'above',
+        excludedBy: { reason: 'assignable-cause', causes: [{ deviationId: 'd-1', rule: 'hold-min', severity: 'CRITICAL' }] },
         firstComparedAt: t('2026-12-01T14:00:01.003Z'),
       },
     });
@@ -503,7 +504,7 @@ describe('every model round-trips through the generated client', () => {
     ).rejects.toThrow(/LabComparison_verdict_check/);
 
     const productCalibration = await prisma.productCalibration.create({
-      data: { productSpecId: spec.id, quantity: 'hardnessHV', method: 'nig-discounted', n: 6, bias: 5, sd: 9.5, dof: 6.2, kappa: 7.1, inForce: true, state: { n: 6 } },
+      data: { productSpecId: spec.id, quantity: 'hardnessHV', method: 'nig-discounted', n: 6, bias: 5, sd: 9.5, dof: 6.2, kappa: 7.1, inForce: true, state: { n: 6 }, excludedResults: 1, exclusions: { results: 1, byRule: { 'hold-min': 1 } } },
     });
     record(
       'ProductCalibration',

@@ -99,6 +99,22 @@ export type HoldAdvice = z.infer<typeof HoldAdvice>;
 const Pair = z.tuple([z.number(), z.number()]);
 const Triple = z.tuple([z.number(), z.number(), z.number()]);
 
+/**
+ * The product's lab calibration that corrected a prediction's (or an advice's) bands of the calibrated quantities
+ * (libs/compliance calibration: bias and spread of measured − raw predicted p50, per quantity); null when none was
+ * in force (fewer than `minResults` lab results), so the bands are the model's own.
+ */
+export const LabCalibrationBasis = z
+  .object({
+    method: z.string(),
+    minResults: z.number(),
+    quantities: z.partialRecord(z.enum(['hardnessHV', 'tensileMPa', 'retainedAusteniteFraction']), z.object({ n: z.number(), bias: z.number(), sd: z.number(), kappa: z.number(), dof: z.number(), predictiveScale: z.number() })),
+    /** The engine hook applied to the stored bands (bias added to every member, extra normal spread). */
+    applied: z.partialRecord(z.enum(['hardnessHV', 'tensileMPa', 'retainedAusteniteFraction']), z.object({ bias: z.number(), sd: z.number() })).optional(),
+  })
+  .nullable();
+export type LabCalibrationBasis = z.infer<typeof LabCalibrationBasis>;
+
 /** What went into a prediction (for the certificate and for anyone asking "why"). */
 export const PredictionBasis = z.looseObject({
   phase: z.enum(['IN_BATH', 'DONE']),
@@ -127,6 +143,7 @@ export const PredictionBasis = z.looseObject({
     bathChannels: z.array(z.looseObject({ channelId: z.string(), code: z.string(), used: z.boolean(), samples: z.number() })),
     uncertainty: z.looseObject({ samples: z.number(), seed: z.number() }),
   }),
+  labCalibration: LabCalibrationBasis.optional(),
 });
 export type PredictionBasis = z.infer<typeof PredictionBasis>;
 
@@ -162,6 +179,8 @@ export const PredictionResult = z.looseObject({
     adiGrade: z.string().nullable().optional(),
   }),
   bands: z.record(z.string(), PredictionBand),
+  /** The model's bands of the lab-calibrated quantities before the lab calibration (`bands` holds them corrected). */
+  rawBands: z.record(z.string(), PredictionBand).optional(),
   warnings: z.array(z.string()),
   verdicts: z.array(CriterionVerdict),
   /** The worst verdict, null when the spec names no criterion. */
@@ -272,6 +291,7 @@ export const HeatAdvice = z.object({
     uncertainty: z.object({ samples: z.number(), seed: z.number() }),
     scannedC: z.object({ fromC: z.number(), toC: z.number(), stepC: z.number() }),
     longestHoldMin: z.number(),
+    labCalibration: LabCalibrationBasis.optional(),
   }),
   /** The bath window meeting every criterion with 95 % confidence; null when no temperature does. */
   window: z

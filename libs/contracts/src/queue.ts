@@ -8,8 +8,9 @@ export const RECOMPUTE_QUEUE = 'recompute';
 
 export const RecomputeJob = z.object({
   batchId: z.uuid(),
-  /** Why the recompute was asked for; informational only (logs, metrics). */
-  reason: z.enum(['samples', 'load-event', 'heat', 'spec', 'lab-result', 'reconcile', 'manual']),
+  /** Why the recompute was asked for; informational only (logs, metrics). 'calibration': the product's lab
+   *  calibration in force changed (worker's outcome job, for the product's loads still in the bath). */
+  reason: z.enum(['samples', 'load-event', 'heat', 'spec', 'lab-result', 'calibration', 'reconcile', 'manual']),
 });
 export type RecomputeJob = z.infer<typeof RecomputeJob>;
 

@@ -15,3 +15,4 @@ export * from './repositories/deviations.js';
 export * from './repositories/recompute-inputs.js';
 export * from './repositories/pyrometry.js';
 export * from './repositories/drift-lots.js';
+export * from './repositories/product-calibrations.js';

@@ -10,7 +10,9 @@ import {
   calibrateBand,
   isCalibrationState,
   rawPredictedBand,
+  summarizeExclusions,
   type Band,
+  type CalibrationExclusion,
   type CalibratedQuantity,
 } from '@ausline/compliance';
 import type { PrismaClient } from '@ausline/db';
@@ -91,6 +93,8 @@ export class CalibrationQueryService {
         quantity,
         unit: QUANTITY_UNIT[quantity as CalibratedQuantity],
         calibration: cal ? { n: cal.n, bias: cal.bias, sd: cal.sd, dof: cal.dof, kappa: cal.kappa, inForce: cal.inForce, updatedAt: cal.updatedAt } : null,
+        /** Results judged but left out of the calibration for an assignable cause, in all and by rule. */
+        excluded: summarizeExclusions(rows.map((c) => c.excludedBy as CalibrationExclusion | null)),
         history: rows.map((c) => ({
           labResultId: c.labResultId,
           externalRef: c.labResult.externalRef,
@@ -107,6 +111,7 @@ export class CalibrationQueryService {
           calibrationAfter: c.calibrationAfter,
           residual: c.residual,
           verdict: c.verdict,
+          excludedBy: c.excludedBy,
           firstComparedAt: c.firstComparedAt,
         })),
         effect: {
@@ -128,6 +133,8 @@ export class CalibrationQueryService {
         effectiveMemoryResults: Math.round(1 / (1 - DEFAULT_DISCOUNT)),
         minResults: DEFAULT_MIN_RESULTS,
         band: 'p50 + bias ± t(0.95, ν)·s·√(1 + 1/κ) (Student-t predictive); the raw ensemble band until minResults results',
+        exclusions:
+          'a result of a load with a MAJOR or CRITICAL process-window deviation still present (an assignable cause; Montgomery, Introduction to Statistical Quality Control, on revising control limits) is judged by its band but left out of the calibration',
       },
       quantities,
     };

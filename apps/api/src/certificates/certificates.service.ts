@@ -230,6 +230,8 @@ export class CertificatesService {
           verdicts: Array.isArray(result?.verdicts) ? result!.verdicts : [],
           hold: result?.hold ?? null,
           adiGrade: (props as Record<string, unknown>).adiGrade ?? null,
+          // The product's lab calibration that corrected these bands (null: none in force, the model's own bands).
+          labCalibration: isRecord(result?.basis) ? ((result!.basis as Record<string, unknown>).labCalibration ?? null) : null,
         }
       : null;
 

@@ -11,7 +11,7 @@ import {
 } from '@ausline/contracts';
 import { adviseHeatSteps, digestOf, heatDiagram, PredictionInputError, type HeatAdviceInput } from '@ausline/compliance';
 import { setImmediate as nextTurn } from 'node:timers/promises';
-import type { PrismaClient } from '@ausline/db';
+import { loadProductCalibrations, type PrismaClient } from '@ausline/db';
 import { notFound, unprocessable } from '../http/errors.js';
 import { InjectPrisma } from '../prisma.provider.js';
 
@@ -68,6 +68,8 @@ export class PredictionsService {
       agitation: request.agitation ?? 'moderate',
       lineHeatTransfer,
       uncertainty: request.uncertainty ?? { ...DEFAULT_ADVICE_UNCERTAINTY },
+      // The product's lab calibrations in force correct the advice's bands as they do the batches' (cache key too).
+      labCalibration: await loadProductCalibrations(this.prisma, spec.id),
     };
     return this.cachedAdvice(input);
   }
@@ -98,6 +100,7 @@ export class PredictionsService {
           agitation: 'moderate',
           lineHeatTransfer: await this.lineHeatTransfer(undefined, heat.id, spec.id),
           uncertainty: { ...DEFAULT_ADVICE_UNCERTAINTY },
+          labCalibration: await loadProductCalibrations(this.prisma, spec.id),
         });
         if (advice.window) {
           out.advisedBath = {

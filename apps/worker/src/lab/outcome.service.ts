@@ -4,7 +4,10 @@ import {
   CALIBRATED_QUANTITIES,
   CALIBRATION_METHOD,
   DEFAULT_MIN_RESULTS,
+  ASSIGNABLE_CAUSE_SEVERITIES,
   MISMATCH_RULE,
+  PROCESS_WINDOW_RULES,
+  calibrationExclusion,
   driftMetricUnit,
   driftSpecContext,
   judgeSequence,
@@ -15,7 +18,9 @@ import {
   processRecord,
   rawPredictedBand,
   summarizeCalibration,
+  summarizeExclusions,
   type CalibratedQuantity,
+  type CalibrationExclusion,
   type DriftMetric,
   type DriftSpecContext,
   type LabResultLike,
@@ -39,6 +44,11 @@ export interface OutcomeResult {
   driftValuesChanged: boolean;
   comparisons: number;
   changes: DeviationChange[];
+  /**
+   * The product's calibration in force changed (a quantity came into force, or its state moved while in force):
+   * the product's loads still in the bath, whose verdicts and hold advice are live, to be recomputed with it.
+   */
+  recalibratedOpenBatchIds: string[];
 }
 
 interface LoadedPrediction {
@@ -60,7 +70,9 @@ const EVENT_FIELD = { CHARGED: 'chargedMs', OUT_OF_FURNACE: 'outOfFurnaceMs', IN
  *  - each lab result against the predicted band of its latest prediction, corrected by the product's running
  *    calibration of the results compared before it; outside the band → 'model-process-mismatch' deviation.
  *    Every comparison of the product (per quantity) is re-judged in order, so a changed prediction of an older
- *    batch moves the calibration of everything after it consistently; only what changed is written.
+ *    batch moves the calibration of everything after it consistently; only what changed is written. A result
+ *    of a load with an assignable cause (a MAJOR/CRITICAL process-window deviation) is judged but left out of
+ *    the calibration (libs/compliance calibrationExclusion).
  * One transaction, serialized per product spec (advisory lock): the calibration is a fold over the
  * product's comparisons and two batches of one product must not fold at once.
  */
@@ -96,7 +108,8 @@ export class OutcomeService {
         const ctx = driftSpecContext(batch.specVersion);
 
         const driftValuesChanged = await this.storeDriftValues(tx, batch, prediction, ctx, now);
-        const { comparisons, changes } = await this.compareLabResults(tx, batch, productSpecId, prediction, now);
+        const { comparisons, changes, recalibrated } = await this.compareLabResults(tx, batch, productSpecId, prediction, now);
+        const recalibratedOpenBatchIds = recalibrated ? await this.openBatches(tx, productSpecId) : [];
 
         const inputs = {
           predictionId: prediction?.id ?? null,
@@ -110,7 +123,7 @@ export class OutcomeService {
           create: { batchId, inputs, evaluatedAt: now },
           update: { inputs, evaluatedAt: now },
         });
-        return { batchId, productSpecId, lineId: batch.lineId, driftValuesChanged, comparisons, changes };
+        return { batchId, productSpecId, lineId: batch.lineId, driftValuesChanged, comparisons, changes, recalibratedOpenBatchIds };
       },
       { timeout: 60_000, maxWait: 10_000 },
     );
@@ -187,7 +200,7 @@ export class OutcomeService {
     productSpecId: string,
     prediction: LoadedPrediction | null,
     now: Date,
-  ): Promise<{ comparisons: number; changes: DeviationChange[] }> {
+  ): Promise<{ comparisons: number; changes: DeviationChange[]; recalibrated: boolean }> {
     const quantities = new Set<CalibratedQuantity>();
     let comparisons = 0;
     for (const lab of batch.labResults) {
@@ -223,28 +236,44 @@ export class OutcomeService {
       }
     }
     const touched = new Set<string>([batch.id]);
+    let recalibrated = false;
     for (const q of CALIBRATED_QUANTITIES) {
       if (!quantities.has(q)) continue;
-      for (const id of await this.rejudge(tx, productSpecId, q)) touched.add(id);
+      const judged = await this.rejudge(tx, productSpecId, q);
+      for (const id of judged.changedBatches) touched.add(id);
+      recalibrated ||= judged.inForceChanged;
     }
     const changes: DeviationChange[] = [];
     for (const id of [...touched].sort()) changes.push(...(await this.syncMismatches(tx, id, productSpecId)));
-    return { comparisons, changes };
+    return { comparisons, changes, recalibrated };
+  }
+
+  /** The product's loads in the bath now (INTO_BATH, no OUT_OF_BATH): their verdicts and hold advice are live. */
+  private async openBatches(tx: Tx, productSpecId: string): Promise<string[]> {
+    const rows = await tx.batch.findMany({
+      where: { specVersion: { specId: productSpecId }, loadEvents: { some: { kind: 'INTO_BATH' }, none: { kind: 'OUT_OF_BATH' } } },
+      select: { id: true },
+      orderBy: { id: 'asc' },
+    });
+    return rows.map((r) => r.id);
   }
 
   /**
    * Re-judges every comparison of one product and quantity in calibration order and stores the running
-   * calibration; returns the batches whose judgement changed.
+   * calibration; returns the batches whose judgement changed, and whether the calibration that corrects bands
+   * (in force) changed: it came into force, left it, or its state moved while in force.
    */
-  private async rejudge(tx: Tx, productSpecId: string, quantity: CalibratedQuantity): Promise<Set<string>> {
+  private async rejudge(tx: Tx, productSpecId: string, quantity: CalibratedQuantity): Promise<{ changedBatches: Set<string>; inForceChanged: boolean }> {
     const rows = await tx.labComparison.findMany({ where: { productSpecId, quantity }, include: { labResult: { select: { measuredAt: true, postedAt: true } } } });
     const timeOf = (r: (typeof rows)[number]) => (r.labResult.measuredAt ?? r.labResult.postedAt).getTime();
     rows.sort((a, b) => a.firstComparedAt.getTime() - b.firstComparedAt.getTime() || timeOf(a) - timeOf(b) || (a.labResultId < b.labResultId ? -1 : a.labResultId > b.labResultId ? 1 : 0));
+    const exclusions = await this.exclusionsOf(tx, [...new Set(rows.map((r) => r.batchId))]);
     const { judgements, final } = judgeSequence(
       rows.map((r) => ({
         key: r.id,
         measured: r.measured ?? Number.NaN,
         raw: r.measured !== null && r.rawP05 !== null && r.rawP50 !== null && r.rawP95 !== null ? { p05: r.rawP05, p50: r.rawP50, p95: r.rawP95 } : null,
+        excludedBy: exclusions.get(r.batchId) ?? null,
       })),
       { quantity },
     );
@@ -263,6 +292,7 @@ export class OutcomeService {
         calibrationAfter: (j.comparison ? j.after : null) as Prisma.InputJsonValue | null,
         residual: j.residual,
         verdict,
+        excludedBy: j.excludedBy as Prisma.InputJsonValue | null,
       };
       const same =
         row.bandP05 === next.bandP05 &&
@@ -272,20 +302,54 @@ export class OutcomeService {
         canonicalJson(row.calibrationBefore) === canonicalJson(next.calibrationBefore) &&
         canonicalJson(row.calibrationAfter) === canonicalJson(next.calibrationAfter) &&
         row.residual === next.residual &&
-        row.verdict === next.verdict;
+        row.verdict === next.verdict &&
+        canonicalJson(row.excludedBy) === canonicalJson(next.excludedBy);
       if (same) continue;
       changedBatches.add(row.batchId);
       await tx.labComparison.update({
         where: { id: row.id },
-        data: { ...next, calibrationBefore: next.calibrationBefore ?? Prisma.DbNull, calibrationAfter: next.calibrationAfter ?? Prisma.DbNull },
+        data: { ...next, calibrationBefore: next.calibrationBefore ?? Prisma.DbNull, calibrationAfter: next.calibrationAfter ?? Prisma.DbNull, excludedBy: next.excludedBy ?? Prisma.DbNull },
       });
     }
+    let inForceChanged = false;
     if (final) {
       const s = summarizeCalibration(final);
-      const data = { method: CALIBRATION_METHOD, n: s.n, bias: s.bias, sd: s.sd, dof: s.dof, kappa: s.kappa, inForce: s.n >= DEFAULT_MIN_RESULTS, state: final as unknown as Prisma.InputJsonValue };
+      const excluded = summarizeExclusions(judgements.map((j) => j.excludedBy));
+      const data = {
+        method: CALIBRATION_METHOD,
+        n: s.n,
+        bias: s.bias,
+        sd: s.sd,
+        dof: s.dof,
+        kappa: s.kappa,
+        inForce: s.n >= DEFAULT_MIN_RESULTS,
+        state: final as unknown as Prisma.InputJsonValue,
+        excludedResults: excluded.results,
+        exclusions: excluded as unknown as Prisma.InputJsonValue,
+      };
+      const before = await tx.productCalibration.findUnique({ where: { productSpecId_quantity: { productSpecId, quantity } }, select: { inForce: true, state: true } });
+      const inForceBefore = before?.inForce ? canonicalJson(before.state) : null;
+      const inForceAfter = data.inForce ? canonicalJson(final) : null;
+      inForceChanged = inForceBefore !== inForceAfter;
       await tx.productCalibration.upsert({ where: { productSpecId_quantity: { productSpecId, quantity } }, create: { productSpecId, quantity, ...data }, update: data });
     }
-    return changedBatches;
+    return { changedBatches, inForceChanged };
+  }
+
+  /** Per batch, why its lab results are left out of the calibration (only batches with an assignable cause). */
+  private async exclusionsOf(tx: Tx, batchIds: string[]): Promise<Map<string, CalibrationExclusion>> {
+    const deviations = await tx.deviation.findMany({
+      where: { batchId: { in: batchIds }, rule: { in: [...PROCESS_WINDOW_RULES] }, severity: { in: [...ASSIGNABLE_CAUSE_SEVERITIES] }, conditionPresent: true },
+      select: { id: true, batchId: true, rule: true, severity: true, conditionPresent: true },
+    });
+    const byBatch = new Map<string, typeof deviations>();
+    for (const d of deviations) byBatch.set(d.batchId!, [...(byBatch.get(d.batchId!) ?? []), d]);
+    const out = new Map<string, CalibrationExclusion>();
+    for (const [batchId, ds] of byBatch) {
+      const exclusion = calibrationExclusion(ds);
+      if (exclusion) out.set(batchId, exclusion);
+    }
+    return out;
   }
 
   /** The mismatch deviations of one batch, from its comparisons (opened, refreshed, cleared by the repository). */

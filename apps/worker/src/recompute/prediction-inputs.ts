@@ -1,10 +1,11 @@
-import type { Prisma, PrismaClient, RecomputeInputs } from '@ausline/db';
-import { PREDICTION_STATE_FORMAT, type PredictionState } from '@ausline/compliance';
+import { loadProductCalibrations, type Prisma, type PrismaClient, type RecomputeInputs } from '@ausline/db';
+import { PREDICTION_STATE_FORMAT, type PredictionState, type ProductCalibrations } from '@ausline/compliance';
 
 /**
  * What the prediction step reads besides the recompute inputs: the batch's section and schedule, its heat, the
- * line's calibrated bath heat transfer, the agitator around the immersion, and the latest stored prediction (its
- * state is advanced, its digest/phase/verdicts decide what to store).
+ * line's calibrated bath heat transfer, the agitator around the immersion, the product's lab calibrations in force
+ * (they correct the predicted bands), and the latest stored prediction (its state is advanced, its
+ * digest/phase/verdicts decide what to store).
  */
 
 type Db = PrismaClient | Prisma.TransactionClient;
@@ -33,6 +34,8 @@ export interface PredictionStepInputs {
   uncertainty: { samples: number; seed: number };
   /** INTO_BATH of the next load into the same bath (this load's log cannot run past it); null if none yet. */
   nextLoadIntoBathMs: number | null;
+  /** The product spec's running lab calibrations in force, read as of this recompute. */
+  labCalibration: ProductCalibrations;
 }
 
 /** Agitator readings from this long before INTO_BATH to this long after it decide the agitation of the quench. */
@@ -90,6 +93,7 @@ export async function loadPredictionInputs(db: Db, inputs: RecomputeInputs, unce
     latest: row ? latestOf(row) : null,
     uncertainty,
     nextLoadIntoBathMs,
+    labCalibration: await loadProductCalibrations(db, inputs.batch.productSpecId),
   };
 }
 

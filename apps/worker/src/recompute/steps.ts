@@ -111,6 +111,7 @@ export const predictionStep: RecomputeStep = {
           lineHeatTransfer: p.lineHeatTransfer,
           uncertainty: p.uncertainty,
           nextLoadIntoBathMs: p.nextLoadIntoBathMs,
+          labCalibration: p.labCalibration,
         },
         p.latest?.state ?? null,
       );

@@ -1,7 +1,7 @@
 // Predicted bands of the quantities a lab measures, and their correction by the running calibration.
 
 import { normalQuantile, studentTQuantile } from './distributions.js';
-import { DEFAULT_MIN_RESULTS, summarizeCalibration, type CalibrationState, type CalibrationSummary } from './running.js';
+import { CALIBRATION_METHOD, DEFAULT_MIN_RESULTS, summarizeCalibration, type CalibrationState, type CalibrationSummary } from './running.js';
 
 /** Quantities with a lab measurement to compare and calibrate against. */
 export const CALIBRATED_QUANTITIES = ['hardnessHV', 'tensileMPa', 'retainedAusteniteFraction'] as const;
@@ -45,13 +45,23 @@ export function predictionBand(result: unknown, quantity: string): Band | null {
 }
 
 /**
- * The raw (uncalibrated) predicted band of a quantity from a Prediction.result (the `ausline predict` shape).
- * Retained austenite after cooling = film + blocky austenite: the engine's own `bands.retainedAusteniteFraction`
+ * A stored prediction keeps the engine's uncalibrated bands of the calibrated quantities here (`rawBands.<q>`),
+ * beside the bands corrected by the product's lab calibration (`bands.<q>`, `properties.<q>`): the calibration is
+ * learned from measured − RAW p50, never from a band it has already moved (that would feed its own bias back).
+ */
+export const RAW_BANDS_FIELD = 'rawBands';
+
+/**
+ * The raw (uncalibrated) predicted band of a quantity from a Prediction.result (the `ausline predict` shape):
+ * `rawBands.<q>` when the prediction kept it (every live prediction does; its `bands` may be calibrated), else –
+ * results from before any calibration was applied, where `bands` are raw – as follows. Retained austenite after cooling = film + blocky austenite: the engine's own `bands.retainedAusteniteFraction`
  * (summed per ensemble member) when the result has it; for older results the sum of the film and blocky
  * percentiles, exact only if both move together and otherwise a conservative (wider) band, since the sum of
  * two quantiles is the quantile of the sum when the members are comonotonic.
  */
 export function rawPredictedBand(result: unknown, quantity: CalibratedQuantity): { band: Band; from: string } | null {
+  const kept = bandAt(result, [RAW_BANDS_FIELD, quantity]);
+  if (kept) return { band: kept, from: `${RAW_BANDS_FIELD}.${quantity}` };
   if (quantity === 'retainedAusteniteFraction') {
     const own = bandAt(result, ['bands', 'retainedAusteniteFraction']);
     if (own) return { band: own, from: 'bands.retainedAusteniteFraction' };
@@ -138,4 +148,72 @@ export function calibratedPredictionBands(result: unknown, calibrations: Product
     out[q] = { raw: raw.band, calibrated: c.band, applied: c.applied, engine: engineBandCalibration(raw.band, state, options) };
   }
   return out;
+}
+
+/** The calibrations that correct bands now: at least `minResults` results folded in (fewer: the raw band stands). */
+export function calibrationsInForce(calibrations: ProductCalibrations | null | undefined, options: { minResults?: number } = {}): ProductCalibrations {
+  const minResults = options.minResults ?? DEFAULT_MIN_RESULTS;
+  const out: ProductCalibrations = {};
+  for (const q of CALIBRATED_QUANTITIES) {
+    const s = calibrations?.[q];
+    if (s && s.n >= minResults) out[q] = s;
+  }
+  return out;
+}
+
+/** A band as the engine reports it (percentiles may be null when no member got there). */
+export interface EngineBand {
+  p05: number | null;
+  p50: number | null;
+  p95: number | null;
+}
+
+function finiteBand(b: EngineBand | undefined): Band | null {
+  if (!b || b.p05 === null || b.p50 === null || b.p95 === null) return null;
+  return bandAt({ b }, ['b']);
+}
+
+/**
+ * The engine-hook form (libs/metallurgy Calibration.bands) of a product's calibrations in force, for one evaluation
+ * whose raw bands are `rawBands` (the extra spread depends on the ensemble's own spread there). Null when nothing is
+ * in force or no calibrated quantity has a finite raw band: the raw bands stand.
+ */
+export function labBandHooks(
+  rawBands: Partial<Record<CalibratedQuantity, EngineBand>>,
+  calibrations: ProductCalibrations | null | undefined,
+  options: { minResults?: number } = {},
+): Partial<Record<CalibratedQuantity, { bias: number; sd: number }>> | null {
+  const inForce = calibrationsInForce(calibrations, options);
+  const hooks: Partial<Record<CalibratedQuantity, { bias: number; sd: number }>> = {};
+  for (const q of CALIBRATED_QUANTITIES) {
+    const state = inForce[q];
+    const raw = finiteBand(rawBands[q]);
+    if (!state || !raw) continue;
+    const hook = engineBandCalibration(raw, state, options);
+    if (hook) hooks[q] = hook;
+  }
+  return Object.keys(hooks).length ? hooks : null;
+}
+
+/** What a prediction or an advice says about the lab calibration it used (null: none in force, raw bands). */
+export interface LabCalibrationBasis {
+  method: string;
+  minResults: number;
+  quantities: Partial<Record<CalibratedQuantity, CalibrationSummary>>;
+  /** The engine hook applied to the bands this record stores (bias, extra spread), when it says so. */
+  applied?: Partial<Record<CalibratedQuantity, { bias: number; sd: number }>>;
+}
+
+export function labCalibrationBasis(
+  calibrations: ProductCalibrations | null | undefined,
+  options: { minResults?: number; applied?: Partial<Record<CalibratedQuantity, { bias: number; sd: number }>> | null } = {},
+): LabCalibrationBasis | null {
+  const inForce = calibrationsInForce(calibrations, options);
+  const quantities: LabCalibrationBasis['quantities'] = {};
+  for (const q of CALIBRATED_QUANTITIES) {
+    const s = inForce[q];
+    if (s) quantities[q] = summarizeCalibration(s);
+  }
+  if (!Object.keys(quantities).length) return null;
+  return { method: CALIBRATION_METHOD, minResults: options.minResults ?? DEFAULT_MIN_RESULTS, quantities, ...(options.applied ? { applied: options.applied } : {}) };
 }

@@ -1,10 +1,11 @@
 import { describe, expect, it } from 'vitest';
 import { createSeededRandom } from '../drift/random.js';
-import { bandSd, calibrateBand, calibratedPredictionBands, engineBandCalibration, rawPredictedBand, Z95 } from './bands.js';
+import { bandSd, calibrateBand, calibratedPredictionBands, calibrationsInForce, engineBandCalibration, labBandHooks, labCalibrationBasis, rawPredictedBand, Z95 } from './bands.js';
 import { lnGamma, normalQuantile, regularizedIncompleteBeta, studentTCdf, studentTQuantile } from './distributions.js';
 import { convertHardness, labObservations, meanHardnessIn } from './lab.js';
 import { startCalibration, summarizeCalibration, updateCalibration } from './running.js';
 import { judgeSequence } from './sequence.js';
+import { calibrationExclusion, isAssignableCause, summarizeExclusions, type BatchDeviationLike } from './assignable-cause.js';
 
 describe('distributions', () => {
   it('ln Γ matches exact values', () => {
@@ -160,6 +161,63 @@ describe('judgeSequence: prequential judging', () => {
   });
 });
 
+describe('assignable causes: results of a load whose process broke its window are judged but do not calibrate', () => {
+  // Leaving points with an assignable cause out of the reference is the SPC practice when limits are revised
+  // (Montgomery, Introduction to Statistical Quality Control, on revising control limits; common practice).
+  const raw = { p05: 360, p50: 400, p95: 440 };
+  const clean = [-20, -22, -19, -21].map((r, i) => ({ key: `c${i}`, measured: 400 + r, raw }));
+  const dev = (over: Partial<BatchDeviationLike>): BatchDeviationLike => ({ id: 'd1', rule: 'hold-min', severity: 'CRITICAL', conditionPresent: true, ...over });
+  const shortHold = { key: 'short', measured: 400 + 70, raw, excludedBy: calibrationExclusion([dev({})]) };
+
+  it('a MAJOR/CRITICAL process-window deviation still present is a cause, whatever its status; predicted verdicts, mismatches, MINOR and cleared ones are not', () => {
+    expect(isAssignableCause(dev({}))).toBe(true);
+    expect(isAssignableCause(dev({ rule: 'bath-band-excursion', severity: 'MAJOR' }))).toBe(true);
+    expect(isAssignableCause(dev({ rule: 'thermocouple-disagreement', severity: 'MINOR' }))).toBe(false);
+    expect(isAssignableCause(dev({ rule: 'predicted-hardness', severity: 'MAJOR' }))).toBe(false);
+    expect(isAssignableCause(dev({ rule: 'model-process-mismatch', severity: 'MAJOR' }))).toBe(false);
+    expect(isAssignableCause(dev({ conditionPresent: false }))).toBe(false);
+    expect(calibrationExclusion([dev({ rule: 'predicted-hardness', severity: 'MAJOR' })])).toBeNull();
+    expect(calibrationExclusion([dev({ id: 'b', rule: 'transfer-time' }), dev({ id: 'a' }), dev({ id: 'c', rule: 'channel-gap', severity: 'MINOR' })])).toEqual({
+      reason: 'assignable-cause',
+      causes: [
+        { deviationId: 'a', rule: 'hold-min', severity: 'CRITICAL' },
+        { deviationId: 'b', rule: 'transfer-time', severity: 'CRITICAL' },
+      ],
+    });
+  });
+
+  it('an excluded result leaves the calibration as it was; the same result from a clean load moves it', () => {
+    const without = judgeSequence(clean, { quantity: 'hardnessHV' });
+    const withExcluded = judgeSequence([...clean.slice(0, 2), shortHold, ...clean.slice(2)], { quantity: 'hardnessHV' });
+    const withClean = judgeSequence([...clean.slice(0, 2), { ...shortHold, excludedBy: null }, ...clean.slice(2)], { quantity: 'hardnessHV' });
+    // Excluded: the final state is exactly the one without it, and its own judgement leaves the state untouched.
+    expect(withExcluded.final).toEqual(without.final);
+    expect(withExcluded.judgements[2]!.stateAfter).toEqual(withExcluded.judgements[1]!.stateAfter);
+    expect(withExcluded.judgements[2]!.excludedBy!.causes[0]!.rule).toBe('hold-min');
+    // Clean: the same +70 HV is folded in (n + 1) and pulls the bias up and widens the spread.
+    expect(withClean.final!.n).toBe(without.final!.n + 1);
+    expect(summarizeCalibration(withClean.final!).bias).toBeGreaterThan(summarizeCalibration(without.final!).bias + 5);
+    expect(summarizeCalibration(withClean.final!).sd).toBeGreaterThan(2 * summarizeCalibration(without.final!).sd);
+    expect(withClean.judgements[2]!.excludedBy).toBeNull();
+  });
+
+  it('an excluded result is still judged against its own band (here the raw one: above it, a mismatch to raise)', () => {
+    const { judgements } = judgeSequence([shortHold, ...clean], { quantity: 'hardnessHV' });
+    expect(judgements[0]!.comparison!.verdict).toBe('above');
+    expect(judgements[0]!.residual).toBe(70);
+    expect(judgements[0]!.after).toBeNull(); // nothing learned yet
+    // The prior spread comes from the first folded-in prediction; the calibration counts the clean four only.
+    expect(judgements.at(-1)!.stateAfter!.n).toBe(4);
+  });
+
+  it('summarizeExclusions counts results once in all and once per rule', () => {
+    const two = calibrationExclusion([dev({ id: 'a' }), dev({ id: 'b', rule: 'bath-band-excursion', severity: 'MAJOR' })]);
+    const one = calibrationExclusion([dev({ id: 'c' })]);
+    expect(summarizeExclusions([null, two, undefined, one])).toEqual({ results: 2, byRule: { 'bath-band-excursion': 1, 'hold-min': 2 } });
+    expect(summarizeExclusions([])).toEqual({ results: 0, byRule: {} });
+  });
+});
+
 describe('calibratedPredictionBands', () => {
   it('gives raw, calibrated and engine-hook forms for every calibrated quantity the result carries', () => {
     let s = startCalibration(20);
@@ -171,5 +229,28 @@ describe('calibratedPredictionBands', () => {
     expect(out.hardnessHV!.calibrated.p50).toBeCloseTo(400 + summarizeCalibration(s).bias, 9);
     expect(out.hardnessHV!.engine!.bias).toBeCloseTo(summarizeCalibration(s).bias, 9);
     expect(calibratedPredictionBands(result, {}).hardnessHV!.applied).toBe(false);
+  });
+});
+
+describe('labBandHooks: the calibrations in force in the engine-hook form, per evaluation', () => {
+  const raw = { p05: 360, p50: 400, p95: 440 };
+  const learned = (residuals: number[]) => residuals.reduce((s, r) => updateCalibration(s, r), startCalibration(bandSd(raw)));
+
+  it('gives nothing below the minimum number of results, nor for a band the engine could not compute', () => {
+    expect(labBandHooks({ hardnessHV: raw }, { hardnessHV: learned([-20, -22]) })).toBeNull();
+    expect(calibrationsInForce({ hardnessHV: learned([-20, -22]), tensileMPa: learned([5, 6, 7]) })).toEqual({ tensileMPa: learned([5, 6, 7]) });
+    expect(labBandHooks({ hardnessHV: { p05: null, p50: 400, p95: 440 } }, { hardnessHV: learned([-20, -22, -21]) })).toBeNull();
+  });
+
+  it('in force: the hook each quantity gets is engineBandCalibration of that evaluation\'s own raw band', () => {
+    const states = { hardnessHV: learned([-20, -22, -21]), retainedAusteniteFraction: learned([0.01, 0.02, 0.015]) };
+    const hooks = labBandHooks({ hardnessHV: raw, tensileMPa: { p05: 1200, p50: 1300, p95: 1400 } }, states)!;
+    expect(Object.keys(hooks)).toEqual(['hardnessHV']); // no tensile calibration; no retained-austenite band given
+    expect(hooks.hardnessHV).toEqual(engineBandCalibration(raw, states.hardnessHV));
+    const basis = labCalibrationBasis(states, { applied: hooks })!;
+    expect(basis.minResults).toBe(3);
+    expect(basis.quantities.hardnessHV!.n).toBe(3);
+    expect(basis.applied).toEqual(hooks);
+    expect(labCalibrationBasis({})).toBeNull();
   });
 });

@@ -7,3 +7,4 @@ export * from './bands.js';
 export * from './lab.js';
 export * from './sequence.js';
 export * from './mismatch.js';
+export * from './assignable-cause.js';

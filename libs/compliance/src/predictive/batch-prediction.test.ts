@@ -1,5 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import { predict } from '@ausline/metallurgy';
+import { engineBandCalibration, rawPredictedBand } from '../calibration/bands.js';
+import { DEFAULT_MIN_RESULTS, startCalibration, summarizeCalibration, updateCalibration } from '../calibration/running.js';
 import type { TemperatureChannelSeries } from '../process-window/types.js';
 import { mergeBathChannels } from './bath-series.js';
 import { buildBatchSetup, PredictionInputError } from './batch-setup.js';
@@ -167,5 +169,44 @@ describe('live prediction of a batch', () => {
     expect(cold.bathOffsetC as number).toBeGreaterThan(-8.5); // 8 °C below nominal, less what is left of the immersion rise
     expect(cold.bathOffsetC as number).toBeLessThan(-7);
     expect(nominal.nominalEarliestSafeEndS).toBe(cold.nominalEarliestSafeEndS);
+  });
+});
+
+describe('lab calibration of the live prediction', () => {
+  // A hardness calibration learned from residuals of −40 HV (measured − raw p50); the same load predicted with it.
+  const calibrated = (count: number) => {
+    let s = startCalibration(30);
+    for (let i = 0; i < count; i++) s = updateCalibration(s, -40);
+    return { hardnessHV: s };
+  };
+  const criteria = { requireCompleteTransformation: true, hardness: { scale: 'HV' as const, min: 300, max: 900 } };
+  const raw = predicted(predictBatch(loadRecords({ criteria }), null));
+
+  it('keeps the raw bands; below the minimum number of results nothing moves and the basis says none was used', () => {
+    const below = predicted(predictBatch({ ...loadRecords({ criteria }), labCalibration: calibrated(DEFAULT_MIN_RESULTS - 1) }, null));
+    expect(below.result.bands.hardnessHV).toEqual(raw.result.bands.hardnessHV);
+    expect(below.result.rawBands!.hardnessHV).toEqual(raw.result.bands.hardnessHV);
+    expect(below.result.basis.labCalibration).toBeNull();
+    expect(below.inputDigest).toBe(raw.inputDigest);
+  });
+
+  it('in force, moves the judged hardness band by the bias, keeps the raw band for the calibration to learn from, and names the calibration', () => {
+    const cal = calibrated(DEFAULT_MIN_RESULTS);
+    const out = predicted(predictBatch({ ...loadRecords({ criteria }), labCalibration: cal }, null));
+    const bias = summarizeCalibration(cal.hardnessHV).bias;
+    const rawHv = raw.result.bands.hardnessHV as { p05: number; p50: number; p95: number };
+    const hv = out.result.bands.hardnessHV as { p05: number; p50: number; p95: number };
+    expect(out.result.rawBands!.hardnessHV).toEqual(rawHv);
+    // bias added to every member before the engine rounds to whole HV: each percentile moves by the bias ±0.5
+    for (const k of ['p05', 'p50', 'p95'] as const) expect(Math.abs(hv[k] - (rawHv[k] + bias))).toBeLessThanOrEqual(0.5 + 1e-9);
+    expect(out.result.properties.hardnessHV).toEqual(out.result.bands.hardnessHV);
+    expect(out.result.basis.labCalibration!.quantities.hardnessHV!.n).toBe(DEFAULT_MIN_RESULTS);
+    expect(out.result.basis.labCalibration!.quantities.hardnessHV!.bias).toBeCloseTo(bias, 12);
+    expect(out.result.basis.labCalibration!.applied!.hardnessHV).toEqual(engineBandCalibration(rawHv, cal.hardnessHV));
+    const verdict = out.result.verdicts.find((v) => v.criterion === 'hardness')!;
+    expect(verdict.p50).toBe(hv.p50);
+    expect(out.inputDigest).not.toBe(raw.inputDigest);
+    // what the calibration reads back from the stored result is the raw band, not the corrected one
+    expect(rawPredictedBand(out.result, 'hardnessHV')).toEqual({ band: rawHv, from: 'rawBands.hardnessHV' });
   });
 });

@@ -1,6 +1,7 @@
 import type { CriterionVerdict, HoldAdvice, PredictionBasis, PredictionResult, VerdictLevel } from '@ausline/contracts';
 import { createBathState, MODEL_VERSION, type BathState, type PredictOutput } from '@ausline/metallurgy';
 import type { TemperatureChannelSeries } from '../process-window/types.js';
+import { calibrationsInForce, labCalibrationBasis, RAW_BANDS_FIELD } from '../calibration/bands.js';
 import { worstVerdict } from '../verdicts/bands.js';
 import { verdictFindings, type PredictedFinding } from '../verdicts/findings.js';
 import { mergeBathChannels, type BathSeries } from './bath-series.js';
@@ -121,13 +122,15 @@ export function* predictBatchSteps(input: BatchPredictionInput, previous: Predic
   if (series.points.length === 0) return { kind: 'not-ready', reason: 'no bath temperature logged since INTO_BATH' };
 
   const setupDigest = digestOf({ modelVersion: MODEL_VERSION, setup });
-  const judgeDigest = digestOf({ criteria: input.criteria });
+  // The lab calibration in force corrects every checkpoint's bands: a new one re-judges from scratch.
+  const labCalibration = calibrationsInForce(input.labCalibration);
+  const judgeDigest = digestOf(Object.keys(labCalibration).length ? { criteria: input.criteria, labCalibration } : { criteria: input.criteria });
   const points = series.points.map(([t, v]) => [t, roundTo(v, 4)] as [number, number]);
   const nominalBathC = (input.window.bath.minTempC + input.window.bath.maxTempC) / 2;
   const ctx: EvaluationContext = {
     setup,
     criteria: input.criteria,
-    bandCalibration: input.bandCalibration,
+    labCalibration,
     section: { shape: input.section.shape, sizeMm: input.section.sizeMm },
     nominalBathC,
     transferS: setup.transferS,
@@ -293,6 +296,8 @@ export function* predictBatchSteps(input: BatchPredictionInput, previous: Predic
       uncertainty: { samples: setup.uncertainty.samples, seed: setup.uncertainty.seed },
       ...(setup.calibration ? { calibration: setup.calibration } : {}),
     },
+    // Which lab calibration corrected the bands (null: none in force; bands = rawBands).
+    labCalibration: labCalibrationBasis(labCalibration, { applied: evaluation.labHooks }),
   };
   const result: PredictionResult = {
     ...(out as PredictOutput & Record<string, unknown>),
@@ -302,6 +307,8 @@ export function* predictBatchSteps(input: BatchPredictionInput, previous: Predic
     overall: worstVerdict(verdicts.map((v) => v.verdict as VerdictLevel)),
     hold,
     basis,
+    // The uncalibrated bands the lab calibration is learned against (calibration/bands.ts RAW_BANDS_FIELD).
+    [RAW_BANDS_FIELD]: evaluation.rawBands,
   } as PredictionResult;
 
   const settledUntilS = settledCount > 0 ? points[settledCount - 1][0] : 0;

@@ -1,5 +1,6 @@
 import type { AcceptanceCriteria, ProcessWindow } from '@ausline/contracts';
 import { checkChemistry, ELEMENTS, type Agitation, type BatchSetup, type Calibration, type ChemistryWtPct, type Section } from '@ausline/metallurgy';
+import type { ProductCalibrations } from '../calibration/bands.js';
 import type { LoadEventTimes, TemperatureChannelSeries } from '../process-window/types.js';
 
 /**
@@ -29,8 +30,11 @@ export interface SetupRecords {
   /** Line's calibrated bath heat-transfer coefficients by agitation level (Line.hCoefficientByAgitation). */
   lineHeatTransfer: Readonly<Record<string, number>> | null;
   uncertainty: { samples: number; seed: number };
-  /** Band calibration learned from lab results (per product), if any. */
-  bandCalibration?: Calibration['bands'];
+  /**
+   * The product's running lab calibrations (per quantity; those not yet in force are ignored). Applied to each
+   * evaluation's bands (evaluate.ts), not put in the setup: the engine state does not depend on them.
+   */
+  labCalibration?: ProductCalibrations;
 }
 
 export interface SetupBasis {
@@ -134,7 +138,6 @@ export function buildBatchSetup(r: SetupRecords): BuiltSetup {
   if (settings.calibration?.t0PrimeSdWtPct !== undefined) calibration.t0PrimeSdWtPct = settings.calibration.t0PrimeSdWtPct;
   if (settings.calibration?.hardnessFactor !== undefined) calibration.hardnessFactor = settings.calibration.hardnessFactor;
   if (settings.calibration?.hardnessLnSd !== undefined) calibration.hardnessLnSd = settings.calibration.hardnessLnSd;
-  if (r.bandCalibration && Object.keys(r.bandCalibration).length) calibration.bands = r.bandCalibration;
 
   const setup: BatchSetup = {
     material,

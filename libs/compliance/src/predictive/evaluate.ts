@@ -11,9 +11,9 @@ import {
   type BathState,
   type BandQuantity,
   type BatchSetup,
-  type Calibration,
   type PredictOutput,
 } from '@ausline/metallurgy';
+import { CALIBRATED_QUANTITIES, labBandHooks, type CalibratedQuantity, type EngineBand, type ProductCalibrations } from '../calibration/bands.js';
 import type { NumericBand } from '../verdicts/bands.js';
 import { HOLD_DEPENDENT_CRITERIA, judgePrediction, type ExtraBands, type HoldJudgement, type JudgeContext } from '../verdicts/judge.js';
 
@@ -33,15 +33,24 @@ export const PROJECTION_GRID_S = 10;
 export interface EvaluationContext {
   setup: BatchSetup;
   criteria: AcceptanceCriteria;
-  /** Band calibration for finalizeBatch (per product, learned later). */
-  bandCalibration?: Calibration['bands'];
+  /**
+   * The product's running lab calibrations (calibration/running.ts), only those in force. Each evaluation corrects
+   * its raw bands of the calibrated quantities by them (engine hook: bias, plus extra spread when the lab scatters
+   * more than the ensemble), so verdicts, the hold advisor and the heat advice judge the calibrated bands.
+   */
+  labCalibration?: ProductCalibrations;
   section: JudgeContext['section'];
   nominalBathC: number | null;
   transferS: number;
 }
 
 export interface Evaluation {
+  /** Calibrated by the lab calibration in force (the raw output when none is). */
   output: PredictOutput;
+  /** The engine's uncalibrated bands of the calibrated quantities (what the calibration is learned against). */
+  rawBands: Record<CalibratedQuantity, EngineBand>;
+  /** The engine-hook calibration applied (null: none in force, output = raw). */
+  labHooks: Partial<Record<CalibratedQuantity, { bias: number; sd: number }>> | null;
   extra: ExtraBands;
   verdicts: CriterionVerdict[];
 }
@@ -102,7 +111,7 @@ export function evaluateState(
   ctx: EvaluationContext,
   at: { holdEndS: number; projected: boolean; criteria?: AcceptanceCriteria; hold?: HoldJudgement | null },
 ): Evaluation {
-  const output = finalizeBatch(state, ctx.bandCalibration ? { calibration: { bands: ctx.bandCalibration } } : {});
+  const { output, rawBands, labHooks } = finalizeCalibrated(state, ctx.labCalibration);
   const extra = marginBands(ctx.setup, output.t0.bathTempC);
   const s = ctx.setup;
   const judgeContext: JudgeContext = {
@@ -119,7 +128,21 @@ export function evaluateState(
     alSdWtPct: s.uncertainty.chemistrySdWtPct?.Al ?? DEFAULT_CHEMISTRY_SD_WT_PCT.Al ?? 0,
   };
   const verdicts = judgePrediction({ prediction: output, criteria: at.criteria ?? ctx.criteria, extra, context: judgeContext, hold: at.hold ?? null });
-  return { output, extra, verdicts };
+  return { output, rawBands, labHooks, extra, verdicts };
+}
+
+/**
+ * Finalizes a state raw (the spec version's model calibration only, which the setup carries), then – when a lab
+ * calibration is in force – again with its engine hooks derived from those raw bands. libs/metallurgy merges the
+ * setup's calibration with the hook's `bands`, so a spec's hardnessFactor and the like keep applying underneath.
+ */
+export function finalizeCalibrated(state: BathState, labCalibration: ProductCalibrations | undefined): Pick<Evaluation, 'output' | 'rawBands' | 'labHooks'> {
+  const raw = finalizeBatch(state);
+  const rawBands = {} as Record<CalibratedQuantity, EngineBand>;
+  for (const q of CALIBRATED_QUANTITIES) rawBands[q] = raw.bands[q];
+  const labHooks = labCalibration ? labBandHooks(rawBands, labCalibration) : null;
+  const output = labHooks ? finalizeBatch(state, { calibration: { bands: labHooks } }) : raw;
+  return { output, rawBands, labHooks };
 }
 
 export interface Checkpoint {

@@ -16,6 +16,7 @@ import {
   type BatchSetup,
   type Calibration,
 } from '@ausline/metallurgy';
+import { calibrationsInForce, labCalibrationBasis, type ProductCalibrations } from '../calibration/bands.js';
 import { judgeMax } from '../verdicts/bands.js';
 import { HOLD_DEPENDENT_CRITERIA } from '../verdicts/judge.js';
 import { DEFAULT_AMBIENT_C, DEFAULT_GRAIN_SIZE_ASTM, engineChemistry, engineMaterial, engineSection, lineHeatTransferFor, PredictionInputError, type RecordMaterial, type RecordSectionShape } from './batch-setup.js';
@@ -42,7 +43,8 @@ export interface HeatAdviceInput {
   agitation: Agitation;
   lineHeatTransfer: Readonly<Record<string, number>> | null;
   uncertainty: { samples: number; seed: number };
-  bandCalibration?: Calibration['bands'];
+  /** The product's running lab calibrations (those in force correct every evaluated band; see evaluate.ts). */
+  labCalibration?: ProductCalibrations;
 }
 
 export const ADVICE_STEP_C = 10;
@@ -75,7 +77,7 @@ export function* adviseHeatSteps(input: HeatAdviceInput): Generator<void, HeatAd
   const ctx: EvaluationContext = {
     setup,
     criteria,
-    bandCalibration: input.bandCalibration,
+    labCalibration: calibrationsInForce(input.labCalibration),
     section: { shape: input.section.shape, sizeMm: input.section.sizeMm },
     nominalBathC: (window.bath.minTempC + window.bath.maxTempC) / 2,
     transferS: setup.transferS,
@@ -178,6 +180,8 @@ export function* adviseHeatSteps(input: HeatAdviceInput): Generator<void, HeatAd
       uncertainty: { samples: setup.uncertainty.samples, seed: setup.uncertainty.seed },
       scannedC: { fromC, toC, stepC: ADVICE_STEP_C },
       longestHoldMin: window.bath.maxHoldMin,
+      // Which lab calibration corrected the bands (null: none in force, raw model bands).
+      labCalibration: labCalibrationBasis(input.labCalibration),
     },
     window: windowOut,
     edges,
@@ -198,7 +202,6 @@ export function adviceSetup(input: HeatAdviceInput, warnings: string[]): BatchSe
   const w = input.spec.processWindow;
   const h = lineHeatTransferFor(input.lineHeatTransfer, input.agitation);
   const cal: Calibration = { ...(settings.calibration ?? {}) };
-  if (input.bandCalibration && Object.keys(input.bandCalibration).length) cal.bands = input.bandCalibration;
   return {
     material,
     chemistryWtPct,

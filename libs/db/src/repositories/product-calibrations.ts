@@ -1,12 +1,10 @@
 import { CALIBRATED_QUANTITIES, isCalibrationState, type CalibratedQuantity, type ProductCalibrations } from '@ausline/compliance';
-import type { Prisma, PrismaClient } from '@ausline/db';
+import type { Prisma, PrismaClient } from '../generated/prisma/client.js';
 
 /**
- * The running calibrations of a product spec that correct bands now (ProductCalibration rows with inForce),
- * by quantity. For the prediction step (PC1): pass them with the prediction's raw result to libs/compliance
- * calibratedPredictionBands(result, calibrations) for calibrated bands beside the raw ones, or its `.engine`
- * entries to the engine's calibration hook (finalizeBatch(state, { calibration: { bands } })), which can shift
- * and widen a band but not narrow it.
+ * The running lab calibrations of a product spec that correct bands now (ProductCalibration rows with inForce), by
+ * quantity: the worker's prediction step and the api's heat advice pass them to libs/compliance (labCalibration),
+ * which corrects every evaluated band by them. A row whose stored state does not parse is left out (raw bands).
  */
 export async function loadProductCalibrations(db: PrismaClient | Prisma.TransactionClient, productSpecId: string): Promise<ProductCalibrations> {
   const rows = await db.productCalibration.findMany({ where: { productSpecId, inForce: true } });
