@@ -86,7 +86,7 @@ function quantityRow(q: QuantityCalibration, minResults: number, zone: string): 
       ? [link(`/batches/${latest.batchId}`, latest.batchCode), ': ', h('span', { dataset: { band: 'raw' } }, fmtQuantityBand(q.quantity, latest.raw)), ' → ',
           h('span', { dataset: { band: 'calibrated' } }, latest.applied ? fmtQuantityBand(q.quantity, latest.calibrated) : 'unchanged (not in force)')]
       : h('span', { class: 'muted' }, 'no predicted load yet')),
-    cell('effect', q.effect.batches.length === 0 ? '—' : [
+    cell('effect', q.effect.batches.length === 0 ? '—' : !q.effect.batches.some((b) => b.applied) ? h('span', { class: 'muted' }, 'none yet: not in force') : [
       h('span', { dataset: { figure: 'narrowed' } }, fmtNarrowed(q.effect.meanNarrowedPct)), ', ',
       'median moved ', h('span', { dataset: { figure: 'shift' } }, fmtQuantityDelta(q.quantity, q.effect.meanShift)),
       h('div', { class: 'muted small' }, `mean over ${q.effect.batches.length} load${q.effect.batches.length === 1 ? '' : 's'}; width ${fmtQuantityValue(q.quantity, q.effect.meanRawWidth)} → ${fmtQuantityValue(q.quantity, q.effect.meanCalibratedWidth)} (p05–p95)`)]),
@@ -100,7 +100,7 @@ function leftOutBlock(q: QuantityCalibration): HTMLElement | null {
   const causes = exclusionCauses(q);
   return h('section', { class: 'card', id: `excluded-${q.quantity}`, dataset: { excluded: q.quantity } },
     h('h2', null, `${QUANTITY_LABEL[q.quantity]}: ${q.excluded.results} result${q.excluded.results === 1 ? '' : 's'} left out`),
-    h('p', { class: 'muted small' }, 'By rule: ', Object.entries(q.excluded.byRule).map(([rule, n]) => `${fmtRule(rule)} ${n}`).join(', ')),
+    h('p', { class: 'muted small' }, 'By rule: ', Object.entries(q.excluded.byRule).map(([rule, n]) => `${fmtRule(rule)}: ${n}`).join(', ')),
     h('ul', null, ...causes.map((c) => h('li', { dataset: { deviationId: c.deviationId } },
       severityChip(c.severity as never), ' ', link(`/deviations/${c.deviationId}`, fmtRule(c.rule)), ' on load ',
       ...c.batches.flatMap((b, i) => [i > 0 ? ', ' : '', link(`/batches/${b.id}`, b.code)])))));
