@@ -10,6 +10,7 @@ import { adminView } from './views/admin.js';
 import { batchView } from './views/batch.js';
 import { batchesView } from './views/batches.js';
 import { boardView } from './views/board.js';
+import { calibrationView } from './views/calibration.js';
 import { certificateView } from './views/certificate.js';
 import { deviationsView } from './views/deviations.js';
 import { driftView } from './views/drift.js';
@@ -36,6 +37,7 @@ const ROUTES: Record<string, ViewFactory> = {
   deviations: deviationsView,
   pyrometry: pyrometryView,
   admin: adminView,
+  calibration: calibrationView,
 };
 
 const NAV: Array<{ route: string; label: string; key: string }> = [

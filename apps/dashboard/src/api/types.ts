@@ -529,3 +529,72 @@ export interface LineDueList {
   testKit: Array<DueItem & { referenceIds: string[] }>;
   notEnrolled: Array<{ equipmentId: string; equipmentCode: string }>;
 }
+
+// --- lab calibration of the model (GET /v1/specs/:id/calibration) --------------------------------------
+
+export type CalibratedQuantity = 'hardnessHV' | 'tensileMPa' | 'retainedAusteniteFraction';
+
+export interface CalibrationBand {
+  p05: number;
+  p50: number;
+  p95: number;
+}
+
+export interface CalibrationExclusion {
+  reason: 'assignable-cause';
+  causes: Array<{ deviationId: string; rule: string; severity: string }>;
+}
+
+export interface CalibrationHistoryRow {
+  labResultId: string;
+  externalRef: string | null;
+  labKind: string;
+  batchId: string;
+  batchCode: string;
+  measured: number;
+  predictionVersion: number;
+  raw: CalibrationBand | null;
+  band: CalibrationBand | null;
+  calibrationApplied: boolean;
+  residual: number | null;
+  verdict: string;
+  excludedBy: CalibrationExclusion | null;
+  firstComparedAt: string;
+}
+
+export interface CalibrationEffectBatch {
+  batchId: string;
+  batchCode: string;
+  predictionId: string;
+  predictionVersion: number;
+  raw: CalibrationBand;
+  calibrated: CalibrationBand;
+  applied: boolean;
+  rawWidth: number;
+  calibratedWidth: number;
+  /** Percent narrower (negative: wider). */
+  narrowedPct: number | null;
+  /** Calibrated p50 − raw p50. */
+  shift: number;
+}
+
+export interface QuantityCalibration {
+  quantity: CalibratedQuantity;
+  unit: string;
+  calibration: { n: number; bias: number; sd: number; dof: number; kappa: number; inForce: boolean; updatedAt: string } | null;
+  excluded: { results: number; byRule: Record<string, number> };
+  history: CalibrationHistoryRow[];
+  effect: {
+    batches: CalibrationEffectBatch[];
+    meanRawWidth: number | null;
+    meanCalibratedWidth: number | null;
+    meanNarrowedPct: number | null;
+    meanShift: number | null;
+  };
+}
+
+export interface SpecCalibration {
+  spec: { id: string; code: string; name: string };
+  method: { name: string; minResults: number; discountPerResult: number; effectiveMemoryResults: number; band: string; exclusions: string };
+  quantities: QuantityCalibration[];
+}

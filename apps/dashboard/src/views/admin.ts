@@ -289,6 +289,7 @@ function specsTab(ctx: AppContext, body: HTMLElement): void {
     return h('section', { class: 'card spec', dataset: { specId: spec.id } },
       h('h2', null, `${spec.code} `, h('span', { class: 'muted' }, `${spec.name} · ${spec.material === 'STEEL' ? 'steel' : 'ductile iron'}`)),
       spec.description ? h('p', null, spec.description) : null,
+      h('p', { class: 'small' }, link(`/calibration/${spec.id}`, 'Model calibration from lab results'), h('span', { class: 'muted' }, ': bias, spread and how much the predicted bands narrowed')),
       spec.versions.length === 0 ? h('p', { class: 'muted' }, 'No versions yet.') : h('div', null, ...spec.versions.slice().reverse().map((v) => versionBlock(spec, v))),
       isQuality ? newVersionForm(spec, latest) : null);
   }
