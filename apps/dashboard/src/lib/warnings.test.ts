@@ -26,4 +26,9 @@ describe('criterion ids in warnings', () => {
     expect(plainWarning('no hold up to 240 min meets min-bainite, hardness at 300 °C')).toBe('No hold up to 240 min meets minimum bainite (ausferrite) fraction, hardness at 300 °C');
     expect(plainWarning('the min-bainite-like word and pre-min-bainite stay')).toBe('The min-bainite-like word and pre-min-bainite stay');
   });
+
+  it('keep the case of a leading element symbol or acronym inside a sentence', () => {
+    expect(plainWarning('advice: most often failing: min-si-plus-al, ms-margin'))
+      .toBe('Most often failing: Si + Al keeps cementite out, bath above Ms by the margin');
+  });
 });

@@ -18,9 +18,12 @@ export function plainWarning(text: string): string {
   return stripped.charAt(0).toUpperCase() + stripped.slice(1);
 }
 
-/** 'Minimum bainite …' inside a sentence; a leading symbol or acronym ('Si + Al', 'Ms') keeps its case. */
+/**
+ * 'Minimum bainite …' inside a sentence; a leading element symbol or acronym ('Si + Al', 'Ms', 'HV') keeps its case:
+ * only a first word of three or more letters, capital then lower case, is a plain word.
+ */
 function lowerFirst(name: string): string {
-  return /^[A-Z][a-z]/.test(name) ? name.charAt(0).toLowerCase() + name.slice(1) : name;
+  return /^[A-Z][a-z]{2,}\b/.test(name) ? name.charAt(0).toLowerCase() + name.slice(1) : name;
 }
 
 /** Plain and unique, first occurrence kept, in order. */
